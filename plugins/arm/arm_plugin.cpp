@@ -1,0 +1,90 @@
+// The `arm` problem as a plugin: the C ABI of include/tessera/plugin.h around arm_model.hpp.
+// Options ([problem.options]): joints (integer, default 10).
+#include <tessera/plugin.h>
+
+#include <cmath>
+#include <exception>
+#include <memory>
+#include <string>
+
+#include "arm/arm_model.hpp"
+#include "common/plugin_glue.hpp"
+
+namespace glue = tessera::plugin_glue;
+
+namespace {
+
+constexpr const char* kName = "arm";
+
+// Every option of the arm problem; new options (issue 7) are added here and to kKeys.
+struct ArmOptions {
+  std::size_t joints = 10;
+};
+
+ArmOptions read_options(const char* text) {
+  const toml::table table = glue::parse_options(text);
+  glue::check_keys(table, {"joints"});
+  ArmOptions options;
+  options.joints = static_cast<std::size_t>(glue::integer_option(table, "joints", 10, 1, 1000000));
+  return options;
+}
+
+}  // namespace
+
+struct tsr_instance {
+  ArmOptions options;
+  glue::MetadataStore metadata;
+};
+
+extern "C" {
+
+TSR_EXPORT uint32_t tsr_abi_version(void) { return TSR_ABI_VERSION; }
+
+TSR_EXPORT const char* tsr_problem_name(void) { return kName; }
+
+TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_t error_size) {
+  try {
+    auto instance = std::make_unique<tsr_instance>();
+    instance->options = read_options(options_toml);
+    const std::size_t n = instance->options.joints;
+    auto& m = instance->metadata;
+    m.name = kName;
+    m.summary = "planar arm, " + std::to_string(n) +
+                " joints: end-effector position, fitness = -(variance of the joint angles)";
+    m.genome_lower.assign(n, tessera::arm::kAngleLower);
+    m.genome_upper.assign(n, tessera::arm::kAngleUpper);
+    m.descriptor_lower = {-1.0, -1.0};
+    m.descriptor_upper = {1.0, 1.0};
+    m.descriptor_names = {"x", "y"};
+    m.fitness_lower = tessera::arm::kFitnessLower;
+    m.fitness_upper = tessera::arm::kFitnessUpper;
+    m.finish();
+    return instance.release();
+  } catch (const std::exception& e) {
+    glue::write_error(error, error_size, e.what());
+  } catch (...) {
+    glue::write_error(error, error_size, "unknown error while reading the options");
+  }
+  return nullptr;
+}
+
+TSR_EXPORT void tsr_describe(const tsr_instance* instance, tsr_metadata* out) {
+  instance->metadata.describe(out);
+}
+
+TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* genomes,
+                            double* fitness, double* descriptors, unsigned char* valid,
+                            double* /*extras*/, char* /*error*/, size_t /*error_size*/) {
+  const std::size_t n = instance->options.joints;
+  for (std::size_t k = 0; k < count; ++k) {
+    double* descriptor = descriptors + 2 * k;
+    tessera::arm::evaluate(genomes + k * n, n, fitness[k], descriptor);
+    valid[k] = std::isfinite(fitness[k]) && std::isfinite(descriptor[0]) &&
+               std::isfinite(descriptor[1]);
+  }
+  return TSR_OK;
+}
+
+TSR_EXPORT void tsr_destroy(tsr_instance* instance) { delete instance; }
+
+}  // extern "C"

@@ -1,0 +1,117 @@
+// Helpers shared by the shipped plugins: error text across the C ABI, option tables parsed with
+// toml++, and storage behind tsr_metadata. Header-only; a plugin still sees only the public
+// plugin header plus header-only libraries.
+#pragma once
+
+#include <tessera/plugin.h>
+
+#include <algorithm>
+#include <cstdint>
+#include <cstring>
+#include <exception>
+#include <initializer_list>
+#include <limits>
+#include <string>
+#include <string_view>
+#include <toml++/toml.h>
+#include <vector>
+
+namespace tessera::plugin_glue {
+
+// Copies text into the caller's buffer as one NUL-terminated line (newlines become spaces),
+// truncated to fit.
+inline void write_error(char* error, std::size_t size, std::string_view text) {
+  if (error == nullptr || size == 0) return;
+  const std::size_t n = std::min(text.size(), size - 1);
+  for (std::size_t i = 0; i < n; ++i) error[i] = (text[i] == '\n' || text[i] == '\r') ? ' ' : text[i];
+  error[n] = '\0';
+}
+
+// Thrown by option checks; the message goes back through tsr_create's error buffer.
+struct OptionError : std::exception {
+  explicit OptionError(std::string m) : message(std::move(m)) {}
+  const char* what() const noexcept override { return message.c_str(); }
+  std::string message;
+};
+
+// Parses the [problem.options] text; an empty string is an empty table.
+inline toml::table parse_options(const char* text) {
+  if (text == nullptr || *text == '\0') return {};
+  try {
+    return toml::parse(std::string_view(text));
+  } catch (const toml::parse_error& e) {
+    const auto& where = e.source().begin;
+    throw OptionError("options are not valid TOML (line " + std::to_string(where.line) +
+                      ", column " + std::to_string(where.column) +
+                      "): " + std::string(e.description()));
+  }
+}
+
+// Refuses any key not in `allowed`, naming it and the accepted keys.
+inline void check_keys(const toml::table& options, std::initializer_list<std::string_view> allowed) {
+  for (const auto& [key, value] : options) {
+    bool known = false;
+    for (auto name : allowed) known = known || key.str() == name;
+    if (!known) {
+      std::string list;
+      for (auto name : allowed) list += (list.empty() ? "" : ", ") + std::string(name);
+      throw OptionError("unknown option '" + std::string(key.str()) + "' (accepted: " +
+                        (list.empty() ? "none" : list) + ")");
+    }
+  }
+}
+
+// An integer option within [min, max], or `fallback` when absent.
+inline std::int64_t integer_option(const toml::table& options, std::string_view key,
+                                   std::int64_t fallback, std::int64_t min, std::int64_t max) {
+  const toml::node* node = options.get(key);
+  if (node == nullptr) return fallback;
+  const auto value = node->value_exact<std::int64_t>();
+  if (!value)
+    throw OptionError("option '" + std::string(key) + "' must be an integer");
+  if (*value < min || *value > max)
+    throw OptionError("option '" + std::string(key) + "' = " + std::to_string(*value) +
+                      " is out of range [" + std::to_string(min) + ", " + std::to_string(max) +
+                      "]");
+  return *value;
+}
+
+// Owns everything tsr_metadata points to, for the lifetime of an instance.
+struct MetadataStore {
+  std::string name;
+  std::string summary;
+  std::vector<double> genome_lower, genome_upper;
+  std::vector<double> descriptor_lower, descriptor_upper;
+  std::vector<std::string> descriptor_names;
+  std::vector<const char*> descriptor_name_ptrs;
+  double fitness_lower = 0.0;
+  double fitness_upper = 0.0;
+  std::vector<std::string> extra_names;
+  std::vector<const char*> extra_name_ptrs;
+
+  // Call once every field is set: collects the C string pointers.
+  void finish() {
+    descriptor_name_ptrs.clear();
+    for (const auto& s : descriptor_names) descriptor_name_ptrs.push_back(s.c_str());
+    extra_name_ptrs.clear();
+    for (const auto& s : extra_names) extra_name_ptrs.push_back(s.c_str());
+  }
+
+  void describe(tsr_metadata* out) const {
+    out->name = name.c_str();
+    out->summary = summary.c_str();
+    out->genome_size = genome_lower.size();
+    out->genome_lower = genome_lower.data();
+    out->genome_upper = genome_upper.data();
+    out->descriptor_size = descriptor_lower.size();
+    out->descriptor_lower = descriptor_lower.data();
+    out->descriptor_upper = descriptor_upper.data();
+    out->descriptor_names = descriptor_name_ptrs.data();
+    out->fitness_lower = fitness_lower;
+    out->fitness_upper = fitness_upper;
+    out->extra_size = extra_names.size();
+    out->extra_names = extra_name_ptrs.empty() ? nullptr : extra_name_ptrs.data();
+  }
+};
+
+}  // namespace tessera::plugin_glue

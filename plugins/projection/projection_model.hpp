@@ -1,0 +1,77 @@
+// The linear-projection benchmarks sphere-proj and rastrigin-proj (DESIGN.md "Shipped problems",
+// normative; after Fontaine et al., GECCO 2020, parameters from memory). Pure math on the
+// standard library only, so that tests call exactly the code the plugins run.
+#pragma once
+
+#include <algorithm>
+#include <cmath>
+#include <cstddef>
+#include <numbers>
+#include <vector>
+
+namespace tessera::projection {
+
+inline constexpr double kBound = 5.12;    // genome in [-5.12, 5.12]^n
+inline constexpr double kShift = 2.048;   // the optimum sits at x_i = 2.048
+inline constexpr double kFitnessLower = 0.0;
+inline constexpr double kFitnessUpper = 100.0;
+
+enum class Kind { kSphere, kRastrigin };
+
+// Sphere f(z) = sum z_i^2 of the shifted point z = x - 2.048.
+inline double sphere(const double* x, std::size_t n) {
+  double sum = 0.0;
+  for (std::size_t i = 0; i < n; ++i) {
+    const double z = x[i] - kShift;
+    sum += z * z;
+  }
+  return sum;
+}
+
+// Rastrigin f(z) = 10 n + sum (z_i^2 - 10 cos 2 pi z_i) of the shifted point z = x - 2.048.
+inline double rastrigin(const double* x, std::size_t n) {
+  double sum = 10.0 * static_cast<double>(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    const double z = x[i] - kShift;
+    sum += z * z - 10.0 * std::cos(2.0 * std::numbers::pi * z);
+  }
+  return sum;
+}
+
+inline double objective(Kind kind, const double* x, std::size_t n) {
+  return kind == Kind::kSphere ? sphere(x, n) : rastrigin(x, n);
+}
+
+// f_max = f(-5.12, ..., -5.12): the corner farthest from the shifted optimum.
+inline double objective_max(Kind kind, std::size_t n) {
+  std::vector<double> corner(n, -kBound);
+  return objective(kind, corner.data(), n);
+}
+
+// Clipping rule of the projection: c(x) = x if |x| <= 5.12, else 5.12 / x.
+inline double clip(double x) { return std::fabs(x) <= kBound ? x : kBound / x; }
+
+// Sizes of the two halves: d1 sums the first floor(n/2) parameters, d2 the rest.
+inline std::size_t first_half(std::size_t n) { return n / 2; }
+
+// Descriptor bounds: each sum of clipped values lies within +-5.12 * (its number of terms).
+inline double descriptor_bound(std::size_t n, std::size_t which) {
+  const std::size_t terms = which == 0 ? first_half(n) : n - first_half(n);
+  return kBound * static_cast<double>(terms);
+}
+
+// Fitness 100 (f_max - f(x)) / f_max clamped to [0, 100]; descriptor (d1, d2).
+inline void evaluate(Kind kind, const double* x, std::size_t n, double f_max, double& fitness,
+                     double* descriptor) {
+  const double f = objective(kind, x, n);
+  fitness = std::clamp(100.0 * (f_max - f) / f_max, kFitnessLower, kFitnessUpper);
+  const std::size_t half = first_half(n);
+  double d1 = 0.0;
+  double d2 = 0.0;
+  for (std::size_t i = 0; i < half; ++i) d1 += clip(x[i]);
+  for (std::size_t i = half; i < n; ++i) d2 += clip(x[i]);
+  descriptor[0] = d1;
+  descriptor[1] = d2;
+}
+
+}  // namespace tessera::projection

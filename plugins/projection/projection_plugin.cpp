@@ -1,0 +1,103 @@
+// The `sphere-proj` and `rastrigin-proj` problems as plugins: the C ABI of
+// include/tessera/plugin.h around projection_model.hpp. One source, built twice; the compile
+// definition TESSERA_PROJECTION_RASTRIGIN selects the objective.
+// Options ([problem.options]): dimensions (integer >= 2, default 100).
+#include <tessera/plugin.h>
+
+#include <cmath>
+#include <exception>
+#include <memory>
+#include <string>
+
+#include "common/plugin_glue.hpp"
+#include "projection/projection_model.hpp"
+
+namespace glue = tessera::plugin_glue;
+namespace model = tessera::projection;
+
+namespace {
+
+#if TESSERA_PROJECTION_RASTRIGIN
+constexpr model::Kind kKind = model::Kind::kRastrigin;
+constexpr const char* kName = "rastrigin-proj";
+constexpr const char* kFunction = "shifted Rastrigin";
+#else
+constexpr model::Kind kKind = model::Kind::kSphere;
+constexpr const char* kName = "sphere-proj";
+constexpr const char* kFunction = "shifted sphere";
+#endif
+
+struct ProjectionOptions {
+  std::size_t dimensions = 100;
+};
+
+ProjectionOptions read_options(const char* text) {
+  const toml::table table = glue::parse_options(text);
+  glue::check_keys(table, {"dimensions"});
+  ProjectionOptions options;
+  options.dimensions =
+      static_cast<std::size_t>(glue::integer_option(table, "dimensions", 100, 2, 1000000));
+  return options;
+}
+
+}  // namespace
+
+struct tsr_instance {
+  ProjectionOptions options;
+  double f_max = 1.0;
+  glue::MetadataStore metadata;
+};
+
+extern "C" {
+
+TSR_EXPORT uint32_t tsr_abi_version(void) { return TSR_ABI_VERSION; }
+
+TSR_EXPORT const char* tsr_problem_name(void) { return kName; }
+
+TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_t error_size) {
+  try {
+    auto instance = std::make_unique<tsr_instance>();
+    instance->options = read_options(options_toml);
+    const std::size_t n = instance->options.dimensions;
+    instance->f_max = model::objective_max(kKind, n);
+    auto& m = instance->metadata;
+    m.name = kName;
+    m.summary = std::string(kFunction) + ", " + std::to_string(n) +
+                " parameters projected onto the sums of their two halves";
+    m.genome_lower.assign(n, -model::kBound);
+    m.genome_upper.assign(n, model::kBound);
+    m.descriptor_lower = {-model::descriptor_bound(n, 0), -model::descriptor_bound(n, 1)};
+    m.descriptor_upper = {model::descriptor_bound(n, 0), model::descriptor_bound(n, 1)};
+    m.descriptor_names = {"sum_first_half", "sum_second_half"};
+    m.fitness_lower = model::kFitnessLower;
+    m.fitness_upper = model::kFitnessUpper;
+    m.finish();
+    return instance.release();
+  } catch (const std::exception& e) {
+    glue::write_error(error, error_size, e.what());
+  } catch (...) {
+    glue::write_error(error, error_size, "unknown error while reading the options");
+  }
+  return nullptr;
+}
+
+TSR_EXPORT void tsr_describe(const tsr_instance* instance, tsr_metadata* out) {
+  instance->metadata.describe(out);
+}
+
+TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* genomes,
+                            double* fitness, double* descriptors, unsigned char* valid,
+                            double* /*extras*/, char* /*error*/, size_t /*error_size*/) {
+  const std::size_t n = instance->options.dimensions;
+  for (std::size_t k = 0; k < count; ++k) {
+    double* descriptor = descriptors + 2 * k;
+    model::evaluate(kKind, genomes + k * n, n, instance->f_max, fitness[k], descriptor);
+    valid[k] = std::isfinite(fitness[k]) && std::isfinite(descriptor[0]) &&
+               std::isfinite(descriptor[1]);
+  }
+  return TSR_OK;
+}
+
+TSR_EXPORT void tsr_destroy(tsr_instance* instance) { delete instance; }
+
+}  // extern "C"

@@ -1,0 +1,81 @@
+#include "cli/run_setup.hpp"
+
+#include <stdexcept>
+
+#include "core/errors.hpp"
+#include "core/map_elites.hpp"
+#include "core/variation_emitter.hpp"
+#include "eval/problem_factory.hpp"
+#include "io/cvt_cache.hpp"
+
+namespace tessera::cli {
+namespace {
+
+std::shared_ptr<const DescriptorSpace> build_space(const RunConfig& config, const ProblemInfo& info,
+                                                   std::string& note) {
+  const Bounds& bounds = info.descriptor;
+  if (config.space.kind == "grid") {
+    auto resolution = config.space.resolution;
+    if (resolution.size() == 1 && bounds.size() > 1) resolution.assign(bounds.size(), resolution[0]);
+    if (resolution.size() != bounds.size())
+      throw InputError(config.source + ": key 'space.resolution': " +
+                       std::to_string(resolution.size()) + " values for the " +
+                       std::to_string(bounds.size()) + " descriptor dimensions of '" + info.name +
+                       "'");
+    try {
+      return std::make_shared<GridSpace>(bounds, info.descriptor_names, resolution);
+    } catch (const std::invalid_argument& e) {
+      throw InputError(config.source + ": key 'space.resolution': " + e.what());
+    }
+  }
+  auto centroids = load_or_compute_cvt(bounds, config.space.cvt, &note);
+  return std::make_shared<CvtSpace>(bounds, info.descriptor_names, std::move(centroids));
+}
+
+}  // namespace
+
+PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string& log_path,
+                        const ArchiveSnapshot* saved) {
+  PreparedRun run;
+  config.problem.log_path = log_path;
+  run.problem = open_problem(config.problem);
+  const ProblemInfo& info = run.problem->info();
+  std::shared_ptr<const DescriptorSpace> space;
+  if (saved) {
+    try {
+      space = space_from_snapshot(*saved);
+    } catch (const std::invalid_argument& e) {
+      throw InputError(config.source + ": " + e.what());
+    }
+  } else {
+    space = build_space(config, info, run.space_note);
+  }
+  run.evaluator = std::make_shared<ThreadEvaluator>(run.problem, threads);
+  auto evaluator = run.evaluator;
+  EvaluateFn evaluate = [evaluator](Batch& batch) { evaluator->evaluate(batch); };
+  if (config.algorithm == "map-elites") {
+    run.search = std::make_unique<MapElitesSearch>(
+        config.search, space, info.genome, info.fitness_lower,
+        std::make_unique<VariationEmitter>(config.variation), evaluate, info.extra_names.size());
+  } else {
+    throw InputError(config.source + ": key 'search.algorithm': '" + config.algorithm +
+                     "' is not available in this build");
+  }
+  run.config = std::move(config);
+  return run;
+}
+
+ArchiveSnapshot snapshot_of(const PreparedRun& run) {
+  ArchiveSnapshot out;
+  run.search->save(out);
+  out.problem = run.problem->info().name;
+  out.config = run.config.resolved_toml;
+  out.seed = run.config.search.seed;
+  out.evaluations = run.search->counters().evaluations;
+  out.tool_version = TESSERA_VERSION;
+  for (const auto& [reason, count] : run.problem->failure_counts())
+    out.resume->counters["failed:" + reason] = count;
+  return out;
+}
+
+}  // namespace tessera::cli

@@ -1,0 +1,32 @@
+// Builds a runnable search from a run configuration: opens the problem, builds the descriptor
+// space (grid, or CVT from the cache), the evaluator and the algorithm. Shared by `illuminate`
+// and `resume`, so both make exactly the same search from the same configuration.
+#pragma once
+
+#include <memory>
+#include <string>
+
+#include "core/search.hpp"
+#include "core/snapshot.hpp"
+#include "eval/thread_evaluator.hpp"
+#include "io/run_file.hpp"
+#include "problems/problem.hpp"
+
+namespace tessera::cli {
+
+struct PreparedRun {
+  RunConfig config;
+  std::shared_ptr<const Problem> problem;
+  std::shared_ptr<ThreadEvaluator> evaluator;
+  std::unique_ptr<SearchAlgorithm> search;
+  std::string space_note;  // e.g. "CVT centroids from cache"
+};
+
+// `saved` (when resuming) supplies the space stored in the archive instead of building it.
+PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string& log_path,
+                        const ArchiveSnapshot* saved = nullptr);
+
+// The snapshot of the run as it stands: root attributes, space, elites, history, resume state.
+ArchiveSnapshot snapshot_of(const PreparedRun& run);
+
+}  // namespace tessera::cli

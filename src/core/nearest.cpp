@@ -1,0 +1,155 @@
+#include "core/nearest.hpp"
+
+#include <cmath>
+#include <limits>
+#include <nanoflann.hpp>
+#include <stdexcept>
+#include <string>
+
+namespace tessera {
+namespace {
+
+// nanoflann's view of the centroid array.
+struct CentroidCloud {
+  const double* data = nullptr;
+  std::size_t count = 0;
+  std::size_t dims = 0;
+
+  std::size_t kdtree_get_point_count() const { return count; }
+  double kdtree_get_pt(std::uint32_t idx, std::size_t dim) const { return data[idx * dims + dim]; }
+  template <class Box>
+  bool kdtree_get_bbox(Box&) const {
+    return false;
+  }
+};
+
+// One-nearest result set ordered by (distance, index). It reports a worst distance a hair above
+// the best so that the tree still visits points at exactly the best distance; addPoint then keeps
+// the lowest index among equals. The comparisons stay exact, only the pruning is looser.
+struct LowestNearest {
+  using DistanceType = double;
+  using IndexType = std::uint32_t;
+  using CountType = std::size_t;
+
+  double best = std::numeric_limits<double>::infinity();
+  std::uint32_t index = 0;
+
+  std::size_t size() const { return 1; }
+  bool full() const { return true; }
+  double worstDist() const {
+    return std::nextafter(best * (1.0 + 1e-12), std::numeric_limits<double>::infinity());
+  }
+  bool addPoint(double dist, std::uint32_t idx) {
+    if (dist < best || (dist == best && idx < index)) {
+      best = dist;
+      index = idx;
+    }
+    return true;
+  }
+};
+
+double squared(const double* a, const double* b, std::size_t dims) {
+  // Same summation order as nanoflann's L2_Simple_Adaptor, so scan and tree agree bit for bit.
+  double result = 0.0;
+  for (std::size_t i = 0; i < dims; ++i) {
+    const double diff = a[i] - b[i];
+    result += diff * diff;
+  }
+  return result;
+}
+
+}  // namespace
+
+struct NearestCentroid::Tree {
+  virtual ~Tree() = default;
+  virtual void search(const double* x, LowestNearest& result) const = 0;
+};
+
+namespace {
+
+// A fixed dimension lets nanoflann keep its per-query buffers on the stack.
+template <int Dim>
+class TreeOf final : public NearestCentroid::Tree {
+ public:
+  using Metric = nanoflann::L2_Simple_Adaptor<double, CentroidCloud, double, std::uint32_t>;
+  using Index = nanoflann::KDTreeSingleIndexAdaptor<Metric, CentroidCloud, Dim, std::uint32_t>;
+
+  TreeOf(CentroidCloud cloud)
+      : cloud_(cloud),
+        index_(static_cast<int>(cloud.dims), cloud_, nanoflann::KDTreeSingleIndexAdaptorParams(8)) {}
+
+  void search(const double* x, LowestNearest& result) const override {
+    index_.findNeighbors(result, x, nanoflann::SearchParams());
+  }
+
+ private:
+  CentroidCloud cloud_;
+  Index index_;
+};
+
+std::unique_ptr<NearestCentroid::Tree> make_tree(CentroidCloud cloud) {
+  switch (cloud.dims) {
+    case 1: return std::make_unique<TreeOf<1>>(cloud);
+    case 2: return std::make_unique<TreeOf<2>>(cloud);
+    case 3: return std::make_unique<TreeOf<3>>(cloud);
+    case 4: return std::make_unique<TreeOf<4>>(cloud);
+    case 5: return std::make_unique<TreeOf<5>>(cloud);
+    case 6: return std::make_unique<TreeOf<6>>(cloud);
+    case 7: return std::make_unique<TreeOf<7>>(cloud);
+    case 8: return std::make_unique<TreeOf<8>>(cloud);
+    default: return std::make_unique<TreeOf<-1>>(cloud);
+  }
+}
+
+}  // namespace
+
+NearestCentroid::NearestCentroid(std::span<const double> centroids, std::size_t dims)
+    : centroids_(centroids.begin(), centroids.end()), dims_(dims) {
+  if (dims_ == 0 || centroids_.empty() || centroids_.size() % dims_ != 0)
+    throw std::invalid_argument("nearest centroid: " + std::to_string(centroids_.size()) +
+                                " values do not form centroids of dimension " +
+                                std::to_string(dims_));
+  count_ = centroids_.size() / dims_;
+  if (count_ > std::numeric_limits<std::uint32_t>::max())
+    throw std::invalid_argument("nearest centroid: too many centroids");
+  if (count_ > kScanLimit) tree_ = make_tree({centroids_.data(), count_, dims_});
+}
+
+NearestCentroid::~NearestCentroid() = default;
+NearestCentroid::NearestCentroid(NearestCentroid&&) noexcept = default;
+NearestCentroid& NearestCentroid::operator=(NearestCentroid&&) noexcept = default;
+
+double NearestCentroid::squared_distance(const double* x, std::uint32_t centroid) const {
+  return squared(x, centroids_.data() + centroid * dims_, dims_);
+}
+
+std::uint32_t NearestCentroid::scan(const double* x) const {
+  double best = std::numeric_limits<double>::infinity();
+  std::uint32_t index = 0;
+  for (std::size_t k = 0; k < count_; ++k) {
+    const double d = squared(x, centroids_.data() + k * dims_, dims_);
+    if (d < best) {  // strict: the first (lowest) index wins ties
+      best = d;
+      index = static_cast<std::uint32_t>(k);
+    }
+  }
+  return index;
+}
+
+std::uint32_t NearestCentroid::nearest(const double* x) const {
+  if (!tree_) return scan(x);
+  LowestNearest result;
+  tree_->search(x, result);
+  return result.index;
+}
+
+std::uint32_t NearestCentroid::nearest(const double* x, std::uint32_t hint) const {
+  if (!tree_) return scan(x);
+  LowestNearest result;
+  result.best = squared_distance(x, hint);
+  result.index = hint;
+  tree_->search(x, result);
+  return result.index;
+}
+
+}  // namespace tessera

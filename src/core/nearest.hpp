@@ -1,0 +1,49 @@
+// Exact nearest-centroid search over a fixed set of points: a k-d tree (nanoflann) for many
+// centroids, a plain scan for few. Ties go to the lowest index, as a scan in index order would
+// give, so the answer never depends on how the tree happens to be built.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <memory>
+#include <span>
+#include <vector>
+
+namespace tessera {
+
+class NearestCentroid {
+ public:
+  // Copies the centroids (row-major [K * dims]); K >= 1, K < 2^32.
+  NearestCentroid(std::span<const double> centroids, std::size_t dims);
+  ~NearestCentroid();
+  NearestCentroid(NearestCentroid&&) noexcept;
+  NearestCentroid& operator=(NearestCentroid&&) noexcept;
+
+  // Index of the centroid nearest to x[0..dims).
+  std::uint32_t nearest(const double* x) const;
+  // Same answer, faster when `hint` (any centroid index) is likely near: its distance bounds the
+  // search from the start.
+  std::uint32_t nearest(const double* x, std::uint32_t hint) const;
+
+  // Squared distance as every search computes it (summed over dimensions in order).
+  double squared_distance(const double* x, std::uint32_t centroid) const;
+
+  std::size_t size() const { return count_; }
+  std::size_t dimensions() const { return dims_; }
+  bool uses_tree() const { return tree_ != nullptr; }
+
+  // Below this many centroids a scan beats the tree (measured with bench/cvt_build).
+  static constexpr std::size_t kScanLimit = 48;
+
+  struct Tree;  // defined in nearest.cpp
+
+ private:
+  std::uint32_t scan(const double* x) const;
+
+  std::vector<double> centroids_;
+  std::size_t dims_ = 0;
+  std::size_t count_ = 0;
+  std::unique_ptr<Tree> tree_;
+};
+
+}  // namespace tessera

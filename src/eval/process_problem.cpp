@@ -1,0 +1,712 @@
+#include "eval/process_problem.hpp"
+
+#include <fcntl.h>
+#include <poll.h>
+#include <signal.h>
+#include <spawn.h>
+#include <sys/eventfd.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <cerrno>
+#include <chrono>
+#include <cmath>
+#include <condition_variable>
+#include <cstdio>
+#include <cstring>
+#include <deque>
+#include <limits>
+#include <map>
+#include <mutex>
+#include <nlohmann/json.hpp>
+#include <set>
+#include <stdexcept>
+#include <string>
+#include <string_view>
+#include <thread>
+#include <vector>
+
+#include "core/errors.hpp"
+
+extern char** environ;
+
+namespace tessera {
+namespace {
+
+using Clock = std::chrono::steady_clock;
+
+// Requests one worker may hold at once: enough to hide the pipe round trip, small enough that
+// a killed worker loses little work.
+constexpr std::size_t kWindow = 4;
+// A worker line longer than this without a newline is taken as garbage (protects memory).
+constexpr std::size_t kMaxLine = std::size_t{64} << 20;
+
+std::string errno_text(int error) { return std::strerror(error); }
+
+// Worker text (error messages, garbage lines) shown on one line of tessera's stderr.
+std::string one_line(std::string_view text, std::size_t limit = 160) {
+  std::string out;
+  for (char c : text.substr(0, limit)) out += (static_cast<unsigned char>(c) < 0x20) ? ' ' : c;
+  if (text.size() > limit) out += "...";
+  return out;
+}
+
+// A worker line in quotes, for messages (built by appending: GCC 12 warns falsely on "'" + s).
+std::string quoted(std::string_view text) {
+  std::string out(1, '\'');
+  out += one_line(text);
+  out += '\'';
+  return out;
+}
+
+std::string join_command(const std::vector<std::string>& command) {
+  std::string out;
+  for (const auto& word : command) out += (out.empty() ? "" : " ") + word;
+  return out;
+}
+
+std::string describe_status(int status) {
+  if (WIFEXITED(status)) return "exit status " + std::to_string(WEXITSTATUS(status));
+  if (WIFSIGNALED(status)) return "killed by signal " + std::to_string(WTERMSIG(status));
+  return "stopped";
+}
+
+// Python's json module writes NaN, Infinity and -Infinity, which are not JSON. Rewrites them
+// (outside strings) to null so that such an answer is reported as "not finite", not garbage.
+bool rewrite_non_finite(std::string_view line, std::string& out) {
+  bool changed = false;
+  bool in_string = false;
+  out.clear();
+  std::size_t i = 0;
+  while (i < line.size()) {
+    const char c = line[i];
+    if (in_string) {
+      out += c;
+      if (c == '\\' && i + 1 < line.size()) out += line[++i];
+      else if (c == '"') in_string = false;
+      ++i;
+      continue;
+    }
+    if (c == '"') in_string = true;
+    bool matched = false;
+    for (std::string_view token : {"-Infinity", "Infinity", "NaN"}) {
+      if (line.substr(i, token.size()) == token) {
+        out += "null";
+        i += token.size();
+        changed = matched = true;
+        break;
+      }
+    }
+    if (!matched) out += line[i++];
+  }
+  return changed;
+}
+
+struct Job {
+  std::size_t remaining = 0;
+};
+
+// One evaluation: reads the genome from and writes the results into the caller's batch.
+struct Request {
+  std::uint64_t id = 0;
+  const double* genome = nullptr;
+  double* fitness = nullptr;
+  double* descriptor = nullptr;
+  unsigned char* valid = nullptr;
+  bool suspect = false;  // was held by a worker that crashed: retried once, alone
+  Job* job = nullptr;
+};
+
+struct Worker {
+  pid_t pid = -1;
+  int in = -1;   // write end of the worker's stdin
+  int out = -1;  // read end of the worker's stdout
+  std::string write_buffer;
+  std::string read_buffer;
+  std::deque<Request*> held;   // in the order sent: front is the oldest
+  Clock::time_point progress;  // last answer, or when the worker became busy
+
+  bool alive() const { return pid > 0; }
+};
+
+// The worker processes and the thread that talks to them. Callers on any thread hand requests
+// over through `incoming_` and wait; only the I/O thread touches workers and pipes.
+class WorkerPool {
+ public:
+  WorkerPool(const ProblemSpec& spec, std::size_t genome_size, std::size_t descriptor_size)
+      : command_(spec.command),
+        label_(join_command(spec.command)),
+        timeout_(std::chrono::duration_cast<Clock::duration>(
+            std::chrono::duration<double>(spec.timeout_seconds))),
+        genome_size_(genome_size),
+        descriptor_size_(descriptor_size),
+        workers_(spec.workers) {
+    const std::string log = spec.log_path.empty() ? "/dev/null" : spec.log_path;
+    log_fd_ = ::open(log.c_str(), O_WRONLY | O_CREAT | O_APPEND | O_CLOEXEC, 0644);
+    if (log_fd_ < 0)
+      throw InputError(log + ": cannot open the worker log: " + errno_text(errno));
+    wake_fd_ = ::eventfd(0, EFD_CLOEXEC | EFD_NONBLOCK);
+    if (wake_fd_ < 0) {
+      ::close(log_fd_);
+      throw std::runtime_error("eventfd: " + errno_text(errno));
+    }
+    for (auto& worker : workers_) {
+      const std::string error = start(worker);
+      if (!error.empty()) {
+        shut_down_workers();
+        ::close(wake_fd_);
+        ::close(log_fd_);
+        throw InputError(spec.source + ": cannot start worker '" + label_ + "': " + error);
+      }
+    }
+    thread_ = std::thread([this] { run(); });
+  }
+
+  ~WorkerPool() {
+    {
+      std::lock_guard lock(mutex_);
+      stop_ = true;
+    }
+    wake();
+    thread_.join();
+    shut_down_workers();
+    ::close(wake_fd_);
+    ::close(log_fd_);
+  }
+
+  WorkerPool(const WorkerPool&) = delete;
+  WorkerPool& operator=(const WorkerPool&) = delete;
+
+  // Evaluates candidates [first, first + count) of the batch; safe from any thread.
+  void evaluate(Batch& batch, std::size_t first, std::size_t count) {
+    if (batch.genome_size != genome_size_ || batch.descriptor_size != descriptor_size_)
+      throw std::runtime_error("process problem '" + label_ + "': batch sizes do not match");
+    if (count == 0) return;
+    for (std::size_t k = first; k < first + count; ++k)
+      for (std::size_t j = 0; j < batch.extra_size; ++j) batch.extras[k * batch.extra_size + j] = 0;
+    Job job;
+    job.remaining = count;
+    std::vector<Request> requests(count);
+    {
+      std::unique_lock lock(mutex_);
+      if (!fatal_.empty()) throw std::runtime_error(fatal_);
+      for (std::size_t k = 0; k < count; ++k) {
+        Request& r = requests[k];
+        const std::size_t i = first + k;
+        r.id = next_id_++;
+        r.genome = batch.genomes.data() + i * genome_size_;
+        r.fitness = batch.fitness.data() + i;
+        r.descriptor = batch.descriptors.data() + i * descriptor_size_;
+        r.valid = batch.valid.data() + i;
+        r.job = &job;
+        incoming_.push_back(&r);
+      }
+    }
+    wake();
+    std::unique_lock lock(mutex_);
+    done_.wait(lock, [&] { return job.remaining == 0; });
+    if (!fatal_.empty()) throw std::runtime_error(fatal_);
+  }
+
+  std::vector<std::pair<std::string, std::uint64_t>> failure_counts() const {
+    std::lock_guard lock(mutex_);
+    return {counts_.begin(), counts_.end()};
+  }
+
+ private:
+  void wake() {
+    const std::uint64_t one = 1;
+    [[maybe_unused]] ssize_t n = ::write(wake_fd_, &one, sizeof one);
+  }
+
+  // Spawns a worker; returns an error text or "" on success.
+  std::string start(Worker& worker) {
+    int in_pipe[2], out_pipe[2];
+    if (::pipe2(in_pipe, O_CLOEXEC) != 0) return "pipe: " + errno_text(errno);
+    if (::pipe2(out_pipe, O_CLOEXEC) != 0) {
+      const int error = errno;
+      ::close(in_pipe[0]);
+      ::close(in_pipe[1]);
+      return "pipe: " + errno_text(error);
+    }
+    posix_spawn_file_actions_t actions;
+    posix_spawn_file_actions_init(&actions);
+    posix_spawn_file_actions_adddup2(&actions, in_pipe[0], 0);
+    posix_spawn_file_actions_adddup2(&actions, out_pipe[1], 1);
+    posix_spawn_file_actions_adddup2(&actions, log_fd_, 2);
+    // The I/O thread blocks SIGPIPE; workers start with an empty mask and default handlers.
+    posix_spawnattr_t attributes;
+    posix_spawnattr_init(&attributes);
+    sigset_t empty, defaults;
+    sigemptyset(&empty);
+    sigemptyset(&defaults);
+    sigaddset(&defaults, SIGPIPE);
+    posix_spawnattr_setsigmask(&attributes, &empty);
+    posix_spawnattr_setsigdefault(&attributes, &defaults);
+    posix_spawnattr_setflags(&attributes, POSIX_SPAWN_SETSIGMASK | POSIX_SPAWN_SETSIGDEF);
+    std::vector<char*> argv;
+    for (const auto& word : command_) argv.push_back(const_cast<char*>(word.c_str()));
+    argv.push_back(nullptr);
+    pid_t pid = -1;
+    const int error = ::posix_spawnp(&pid, argv[0], &actions, &attributes, argv.data(), environ);
+    posix_spawn_file_actions_destroy(&actions);
+    posix_spawnattr_destroy(&attributes);
+    ::close(in_pipe[0]);
+    ::close(out_pipe[1]);
+    if (error != 0) {
+      ::close(in_pipe[1]);
+      ::close(out_pipe[0]);
+      return errno_text(error);
+    }
+    ::fcntl(in_pipe[1], F_SETFL, O_NONBLOCK);
+    ::fcntl(out_pipe[0], F_SETFL, O_NONBLOCK);
+    worker.pid = pid;
+    worker.in = in_pipe[1];
+    worker.out = out_pipe[0];
+    worker.write_buffer.clear();
+    worker.read_buffer.clear();
+    worker.held.clear();
+    return "";
+  }
+
+  // Ends a worker and collects its exit status. `grace` lets a worker that closed its stdout
+  // while exiting finish on its own, so that its real status is reported.
+  int stop(Worker& worker, Clock::duration grace) {
+    int status = 0;
+    if (worker.alive()) {
+      const auto until = Clock::now() + grace;
+      pid_t got = 0;
+      while ((got = ::waitpid(worker.pid, &status, WNOHANG)) == 0 && Clock::now() < until)
+        std::this_thread::sleep_for(std::chrono::milliseconds(1));
+      if (got == 0) {
+        ::kill(worker.pid, SIGKILL);
+        while (::waitpid(worker.pid, &status, 0) < 0 && errno == EINTR) {
+        }
+      }
+    }
+    if (worker.in >= 0) ::close(worker.in);
+    if (worker.out >= 0) ::close(worker.out);
+    worker.pid = -1;
+    worker.in = worker.out = -1;
+    return status;
+  }
+
+  // Destructor path: closing stdin asks well-behaved workers to exit; the rest are killed.
+  void shut_down_workers() {
+    for (auto& worker : workers_) {
+      if (worker.in >= 0) ::close(worker.in);
+      worker.in = -1;
+    }
+    const auto until = Clock::now() + std::chrono::milliseconds(200);
+    for (auto& worker : workers_) {
+      const auto left = std::max(Clock::duration::zero(), until - Clock::now());
+      stop(worker, left);
+    }
+  }
+
+  // Counts a failure reason and reports the first of each kind on tessera's stderr.
+  void note(const std::string& reason, const std::string& detail) {
+    bool first = false;
+    {
+      std::lock_guard lock(mutex_);
+      first = counts_[reason]++ == 0;
+    }
+    if (first)
+      std::fprintf(stderr,
+                   "tessera: worker '%s': %s (%s); further ones are counted, not shown\n",
+                   label_.c_str(), reason.c_str(), detail.c_str());
+  }
+
+  void complete(Request* r) {
+    std::lock_guard lock(mutex_);
+    if (--r->job->remaining == 0) done_.notify_all();
+  }
+
+  void fail(Request* r, const std::string& reason, const std::string& detail) {
+    *r->fitness = std::numeric_limits<double>::quiet_NaN();
+    std::fill(r->descriptor, r->descriptor + descriptor_size_,
+              std::numeric_limits<double>::quiet_NaN());
+    *r->valid = 0;
+    if (!reason.empty()) note(reason, detail);
+    complete(r);
+  }
+
+  // A worker exited or closed its stdout: restart it and retry what it held.
+  void on_crash(Worker& worker, const std::string& how) {
+    const int status = stop(worker, std::chrono::milliseconds(100));
+    const std::string detail = how + ", " + describe_status(status);
+    if (worker.held.empty()) {
+      note_event("worker exited while idle and was restarted", detail);
+    }
+    for (Request* r : worker.held) {
+      if (r->suspect) {
+        fail(r, "crash", detail);
+      } else {
+        r->suspect = true;
+        suspects_.push_back(r);
+      }
+    }
+    worker.held.clear();
+    // A worker that dies again and again without answering anything (bad command, script
+    // error) would otherwise be restarted forever.
+    if (++deaths_since_answer_ > 2 * workers_.size() + 8) {
+      set_fatal("worker '" + label_ + "' keeps exiting without answering (" + detail +
+                "); see its log");
+      return;
+    }
+    restart(worker);
+  }
+
+  void on_timeout(Worker& worker) {
+    stop(worker, Clock::duration::zero());
+    Request* oldest = worker.held.front();
+    worker.held.pop_front();
+    // The rest never had a fair chance: resend them first, keeping their order.
+    for (auto it = worker.held.rbegin(); it != worker.held.rend(); ++it) queue_.push_front(*it);
+    worker.held.clear();
+    char detail[96];
+    std::snprintf(detail, sizeof detail, "no answer within %g s; worker killed and restarted",
+                  std::chrono::duration<double>(timeout_).count());
+    fail(oldest, "timeout", detail);
+    restart(worker);
+  }
+
+  void restart(Worker& worker) {
+    const std::string error = start(worker);
+    if (!error.empty()) set_fatal("cannot restart worker '" + label_ + "': " + error);
+  }
+
+  // Events that fail no evaluation, reported once each.
+  void note_event(const std::string& what, const std::string& detail) {
+    if (events_.insert(what).second)
+      std::fprintf(stderr, "tessera: worker '%s': %s (%s)\n", label_.c_str(), what.c_str(),
+                   detail.c_str());
+  }
+
+  // Gives up on the pool: every waiting caller gets std::runtime_error(message).
+  void set_fatal(const std::string& message) {
+    {
+      std::lock_guard lock(mutex_);
+      fatal_ = message;  // first, so that no waiter returns without seeing it
+    }
+    for (auto& worker : workers_) {
+      for (Request* r : worker.held) fail(r, "", "");
+      worker.held.clear();
+      stop(worker, Clock::duration::zero());
+    }
+    for (Request* r : queue_) fail(r, "", "");
+    for (Request* r : suspects_) fail(r, "", "");
+    queue_.clear();
+    suspects_.clear();
+    std::lock_guard lock(mutex_);
+    for (Request* r : incoming_) {
+      *r->valid = 0;
+      if (--r->job->remaining == 0) done_.notify_all();
+    }
+    incoming_.clear();
+    done_.notify_all();
+  }
+
+  void send(Worker& worker, Request* r) {
+    if (worker.held.empty()) worker.progress = Clock::now();
+    worker.held.push_back(r);
+    nlohmann::ordered_json line;
+    line["id"] = r->id;
+    line["genome"] = std::vector<double>(r->genome, r->genome + genome_size_);
+    worker.write_buffer += line.dump();
+    worker.write_buffer += '\n';
+  }
+
+  // Suspects go alone to idle workers, so a second crash proves who caused it; ordinary
+  // requests wait until no suspect is left.
+  void dispatch() {
+    for (auto& worker : workers_) {
+      if (!worker.alive()) continue;
+      if (!suspects_.empty()) {
+        if (worker.held.empty()) {
+          send(worker, suspects_.front());
+          suspects_.pop_front();
+        }
+        continue;
+      }
+      if (!worker.held.empty() && worker.held.front()->suspect) continue;
+      while (worker.held.size() < kWindow && !queue_.empty()) {
+        send(worker, queue_.front());
+        queue_.pop_front();
+      }
+    }
+  }
+
+  // Returns false when the worker is gone (its stdin closed).
+  bool flush(Worker& worker) {
+    while (!worker.write_buffer.empty()) {
+      const ssize_t n = ::write(worker.in, worker.write_buffer.data(), worker.write_buffer.size());
+      if (n > 0) {
+        worker.write_buffer.erase(0, static_cast<std::size_t>(n));
+      } else if (n < 0 && errno == EINTR) {
+        continue;
+      } else if (n < 0 && (errno == EAGAIN || errno == EWOULDBLOCK)) {
+        return true;
+      } else {
+        return false;
+      }
+    }
+    return true;
+  }
+
+  // Charges a line that matches no held request to the oldest one.
+  void charge_oldest(Worker& worker, const std::string& reason, std::string_view line) {
+    if (worker.held.empty()) {
+      note_event("line while holding no request, ignored", quoted(line));
+      return;
+    }
+    Request* r = worker.held.front();
+    worker.held.pop_front();
+    worker.progress = Clock::now();
+    fail(r, reason, quoted(line));
+  }
+
+  void on_line(Worker& worker, std::string_view line) {
+    if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+    if (line.find_first_not_of(" \t") == std::string_view::npos) return;
+    auto answer = nlohmann::json::parse(line, nullptr, false);
+    bool non_finite_token = false;
+    if (answer.is_discarded()) {
+      std::string rewritten;
+      if (rewrite_non_finite(line, rewritten)) {
+        answer = nlohmann::json::parse(rewritten, nullptr, false);
+        non_finite_token = !answer.is_discarded();
+      }
+    }
+    if (!answer.is_object() || !answer.contains("id") || !answer["id"].is_number_integer()) {
+      charge_oldest(worker, "malformed answer", line);
+      return;
+    }
+    const auto id = answer["id"].get<std::int64_t>();
+    auto it = std::find_if(worker.held.begin(), worker.held.end(), [&](const Request* r) {
+      return static_cast<std::int64_t>(r->id) == id;
+    });
+    if (it == worker.held.end()) {
+      charge_oldest(worker, "unknown id", line);
+      return;
+    }
+    Request* r = *it;
+    worker.held.erase(it);
+    worker.progress = Clock::now();
+    deaths_since_answer_ = 0;
+
+    if (answer.contains("error")) {
+      const auto& text = answer["error"];
+      fail(r, "worker error", one_line(text.is_string() ? text.get<std::string>() : text.dump()));
+      return;
+    }
+    const std::string shown = quoted(line);
+    const auto fitness = answer.find("fitness");
+    const auto descriptor = answer.find("descriptor");
+    if (fitness == answer.end() || descriptor == answer.end() || !descriptor->is_array()) {
+      fail(r, "malformed answer", shown);
+      return;
+    }
+    if (descriptor->size() != descriptor_size_) {
+      fail(r, "wrong descriptor length",
+           std::to_string(descriptor->size()) + " numbers instead of " +
+               std::to_string(descriptor_size_));
+      return;
+    }
+    // null stands for a NaN or infinity the worker wrote in Python's non-JSON spelling.
+    auto number = [&](const nlohmann::json& value, double& out) -> const char* {
+      if (value.is_number()) {
+        out = value.get<double>();
+        return std::isfinite(out) ? nullptr : "not finite";
+      }
+      return (value.is_null() && non_finite_token) ? "not finite" : "malformed answer";
+    };
+    double fitness_value = 0.0;
+    if (const char* fault = number(*fitness, fitness_value)) {
+      fail(r, fault, shown);
+      return;
+    }
+    for (std::size_t j = 0; j < descriptor_size_; ++j) {
+      if (const char* fault = number((*descriptor)[j], r->descriptor[j])) {
+        fail(r, fault, shown);
+        return;
+      }
+    }
+    *r->fitness = fitness_value;
+    *r->valid = 1;
+    complete(r);
+  }
+
+  // Returns false when the worker reached end of file (or a read error).
+  bool read_lines(Worker& worker) {
+    char chunk[65536];
+    for (;;) {
+      const ssize_t n = ::read(worker.out, chunk, sizeof chunk);
+      if (n > 0) {
+        worker.read_buffer.append(chunk, static_cast<std::size_t>(n));
+        std::size_t start = 0, end;
+        while ((end = worker.read_buffer.find('\n', start)) != std::string::npos) {
+          on_line(worker, std::string_view(worker.read_buffer).substr(start, end - start));
+          start = end + 1;
+        }
+        worker.read_buffer.erase(0, start);
+        if (worker.read_buffer.size() > kMaxLine) {
+          charge_oldest(worker, "malformed answer", "a line of more than 64 MiB");
+          worker.read_buffer.clear();
+        }
+      } else if (n < 0 && errno == EINTR) {
+        continue;
+      } else if (n < 0 && (errno == EAGAIN || errno == EWOULDBLOCK)) {
+        return true;
+      } else {
+        return false;
+      }
+    }
+  }
+
+  void run() {
+    // Writing to a worker that died raises SIGPIPE; in this thread it only yields EPIPE.
+    sigset_t pipe_signal;
+    sigemptyset(&pipe_signal);
+    sigaddset(&pipe_signal, SIGPIPE);
+    pthread_sigmask(SIG_BLOCK, &pipe_signal, nullptr);
+
+    std::vector<pollfd> fds;
+    for (;;) {
+      {
+        std::lock_guard lock(mutex_);
+        if (stop_ || !fatal_.empty()) return;
+        queue_.insert(queue_.end(), incoming_.begin(), incoming_.end());
+        incoming_.clear();
+      }
+      dispatch();
+      for (auto& worker : workers_)
+        if (worker.alive() && !flush(worker)) on_crash(worker, "stdin closed");
+      if (!fatal_empty()) return;
+
+      // Wait for answers, writable stdins, new requests or the next deadline.
+      fds.assign(1, pollfd{wake_fd_, POLLIN, 0});
+      auto deadline = Clock::time_point::max();
+      for (auto& worker : workers_) {
+        fds.push_back(pollfd{worker.out, POLLIN, 0});
+        fds.push_back(pollfd{worker.write_buffer.empty() ? -1 : worker.in, POLLOUT, 0});
+        if (!worker.held.empty()) deadline = std::min(deadline, worker.progress + timeout_);
+      }
+      int wait_ms = -1;
+      if (deadline != Clock::time_point::max()) {
+        const auto left = deadline - Clock::now();
+        wait_ms = static_cast<int>(std::max<std::int64_t>(
+            0, std::chrono::ceil<std::chrono::milliseconds>(left).count()));
+      }
+      if (::poll(fds.data(), fds.size(), wait_ms) < 0 && errno != EINTR)
+        throw std::runtime_error("poll: " + errno_text(errno));  // cannot happen with valid fds
+      if (fds[0].revents & POLLIN) {
+        std::uint64_t value;
+        [[maybe_unused]] ssize_t n = ::read(wake_fd_, &value, sizeof value);
+      }
+      for (std::size_t w = 0; w < workers_.size(); ++w) {
+        Worker& worker = workers_[w];
+        if (!worker.alive()) continue;
+        const pollfd& out = fds[1 + 2 * w];
+        const pollfd& in = fds[2 + 2 * w];
+        if ((out.revents & (POLLIN | POLLHUP | POLLERR)) && !read_lines(worker)) {
+          on_crash(worker, "stdout closed");
+        } else if ((in.revents & (POLLOUT | POLLERR)) && !flush(worker)) {
+          on_crash(worker, "stdin closed");
+        }
+        if (!fatal_empty()) return;
+      }
+      const auto now = Clock::now();
+      for (auto& worker : workers_)
+        if (worker.alive() && !worker.held.empty() && now >= worker.progress + timeout_)
+          on_timeout(worker);
+      if (!fatal_empty()) return;
+    }
+  }
+
+  bool fatal_empty() {
+    std::lock_guard lock(mutex_);
+    return fatal_.empty();
+  }
+
+  const std::vector<std::string> command_;
+  const std::string label_;
+  const Clock::duration timeout_;
+  const std::size_t genome_size_;
+  const std::size_t descriptor_size_;
+  int log_fd_ = -1;
+  int wake_fd_ = -1;
+
+  // Owned by the I/O thread (and the constructor and destructor around it).
+  std::vector<Worker> workers_;
+  std::deque<Request*> queue_;
+  std::deque<Request*> suspects_;
+  std::size_t deaths_since_answer_ = 0;
+  std::set<std::string> events_;
+
+  // Shared with callers, under mutex_.
+  mutable std::mutex mutex_;
+  std::condition_variable done_;
+  std::deque<Request*> incoming_;
+  std::uint64_t next_id_ = 0;
+  bool stop_ = false;
+  std::string fatal_;
+  std::map<std::string, std::uint64_t> counts_;
+
+  std::thread thread_;
+};
+
+class ProcessInstance final : public ProblemInstance {
+ public:
+  explicit ProcessInstance(std::shared_ptr<WorkerPool> pool) : pool_(std::move(pool)) {}
+  void evaluate(Batch& batch, std::size_t first, std::size_t count) override {
+    pool_->evaluate(batch, first, count);
+  }
+
+ private:
+  std::shared_ptr<WorkerPool> pool_;
+};
+
+class ProcessProblem final : public Problem {
+ public:
+  ProcessProblem(ProblemInfo info, std::shared_ptr<WorkerPool> pool)
+      : info_(std::move(info)), pool_(std::move(pool)) {}
+  const ProblemInfo& info() const override { return info_; }
+  std::unique_ptr<ProblemInstance> make_instance() const override {
+    return std::make_unique<ProcessInstance>(pool_);
+  }
+  std::vector<std::pair<std::string, std::uint64_t>> failure_counts() const override {
+    return pool_->failure_counts();
+  }
+
+ private:
+  ProblemInfo info_;
+  std::shared_ptr<WorkerPool> pool_;
+};
+
+}  // namespace
+
+std::shared_ptr<Problem> open_process_problem(const ProblemSpec& spec) {
+  const std::string where = spec.source.empty() ? "process problem" : spec.source;
+  if (spec.command.empty() || spec.command[0].empty())
+    throw InputError(where + ": [problem] command is empty");
+  if (spec.workers < 1 || spec.workers > 1024)
+    throw InputError(where + ": [problem] workers must be between 1 and 1024");
+  if (!std::isfinite(spec.timeout_seconds) || !(spec.timeout_seconds > 0.0))
+    throw InputError(where + ": [problem] timeout must be a positive number of seconds");
+  ProblemInfo info = spec.declared;
+  if (info.name.empty()) info.name = spec.name;
+  if (info.origin.empty()) info.origin = "process: " + join_command(spec.command);
+  try {
+    check_problem_info(info);
+  } catch (const std::invalid_argument& e) {
+    throw InputError(where + ": " + e.what());
+  }
+  if (!info.extra_names.empty())
+    throw InputError(where + ": a process problem has no extra figures");
+  auto pool = std::make_shared<WorkerPool>(spec, info.genome_size(), info.descriptor_size());
+  return std::make_shared<ProcessProblem>(std::move(info), std::move(pool));
+}
+
+}  // namespace tessera

@@ -1,0 +1,68 @@
+#include "eval/thread_evaluator.hpp"
+
+#include <tbb/blocked_range.h>
+#include <tbb/parallel_for.h>
+#include <tbb/task_arena.h>
+
+#include <algorithm>
+#include <exception>
+#include <stdexcept>
+#include <thread>
+
+namespace tessera {
+
+struct ThreadEvaluator::Arena {
+  explicit Arena(int threads) : arena(threads) {}
+  tbb::task_arena arena;
+};
+
+ThreadEvaluator::ThreadEvaluator(std::shared_ptr<const Problem> problem, std::size_t threads)
+    : problem_(std::move(problem)),
+      threads_(threads == 0 ? std::max(1u, std::thread::hardware_concurrency()) : threads),
+      arena_(std::make_unique<Arena>(static_cast<int>(threads_))) {}
+
+ThreadEvaluator::~ThreadEvaluator() = default;
+
+std::unique_ptr<ProblemInstance> ThreadEvaluator::acquire() {
+  {
+    std::lock_guard lock(pool_mutex_);
+    if (!pool_.empty()) {
+      auto instance = std::move(pool_.back());
+      pool_.pop_back();
+      return instance;
+    }
+  }
+  return problem_->make_instance();
+}
+
+void ThreadEvaluator::release(std::unique_ptr<ProblemInstance> instance) {
+  std::lock_guard lock(pool_mutex_);
+  pool_.push_back(std::move(instance));
+}
+
+void ThreadEvaluator::evaluate(Batch& batch) {
+  if (batch.count == 0) return;
+  const std::size_t chunks = (batch.count + kChunk - 1) / kChunk;
+  std::exception_ptr failure;
+  std::mutex failure_mutex;
+  arena_->arena.execute([&] {
+    tbb::parallel_for(tbb::blocked_range<std::size_t>(0, chunks, 1),
+                      [&](const tbb::blocked_range<std::size_t>& range) {
+                        auto instance = acquire();
+                        try {
+                          for (std::size_t c = range.begin(); c != range.end(); ++c) {
+                            const std::size_t first = c * kChunk;
+                            const std::size_t count = std::min(kChunk, batch.count - first);
+                            instance->evaluate(batch, first, count);
+                          }
+                        } catch (...) {
+                          std::lock_guard lock(failure_mutex);
+                          if (!failure) failure = std::current_exception();
+                        }
+                        release(std::move(instance));
+                      });
+  });
+  if (failure) std::rethrow_exception(failure);
+}
+
+}  // namespace tessera

@@ -1,0 +1,26 @@
+// HDF5 archive files, format version 1 (DESIGN.md, normative), plus the /resume group that
+// carries a checkpoint's engine state.
+#pragma once
+
+#include <string>
+
+#include "core/snapshot.hpp"
+
+namespace tessera {
+
+inline constexpr int kArchiveFormatVersion = 1;
+
+// Writes the snapshot whole to a temporary file beside `path` (".NAME.tmp-PID"), flushes it to
+// disk and renames it over `path`, so that a reader or a crash never sees half a file. Elites are
+// written in the snapshot's order. Throws std::invalid_argument when the snapshot is not a valid
+// format 1 archive (nothing is touched), tessera::InputError "PATH: cannot write archive: ..."
+// when the file system refuses; in both cases any previous file at `path` is left intact.
+void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot);
+
+// Reads and validates an archive. Throws tessera::InputError with one line "PATH: fault" for a
+// missing file, a file that is not HDF5 or not a tessera archive, a newer format version, a
+// truncated or damaged file, shapes that disagree and non-finite stored values. Every size read
+// from the file is checked before anything is allocated from it.
+ArchiveSnapshot read_archive_file(const std::string& path);
+
+}  // namespace tessera

@@ -1,0 +1,105 @@
+#include "io/archive_summary.hpp"
+
+namespace tessera {
+
+ArchiveSummary summarize_archive(const ArchiveSnapshot& s, const std::string& file) {
+  ArchiveSummary out;
+  out.file = file;
+  out.problem = s.problem;
+  out.tool_version = s.tool_version;
+  out.seed = s.seed;
+  out.evaluations = s.evaluations;
+  out.space_kind = s.space_kind;
+  out.cells = s.cell_count();
+  out.descriptor_bounds = s.descriptor_bounds;
+  out.descriptor_names = s.descriptor_names;
+  if (s.space_kind == "grid") out.resolution = s.resolution;
+  out.genome_size = s.genome_size();
+
+  const std::size_t n = s.elite_count();
+  out.elites = n;
+  out.coverage = out.cells > 0 ? static_cast<double>(n) / static_cast<double>(out.cells) : 0.0;
+  out.qd_offset = s.qd_offset;
+  // Same order and formula as EliteArchive::qd_score, so the figure matches /history exactly.
+  for (double f : s.fitness) out.qd_score += f - s.qd_offset;
+  if (n > 0) {
+    std::size_t best = 0;
+    for (std::size_t i = 1; i < n; ++i)
+      if (s.fitness[i] > s.fitness[best]) best = i;
+    const std::size_t g = s.genome_size();
+    const std::size_t d = s.descriptor_size();
+    out.max_fitness = s.fitness[best];
+    out.best = BestElite{best,
+                         s.cell[best],
+                         s.fitness[best],
+                         s.birth[best],
+                         {s.descriptor.begin() + best * d, s.descriptor.begin() + (best + 1) * d},
+                         {s.genome.begin() + best * g, s.genome.begin() + (best + 1) * g}};
+  }
+  if (s.resume) {
+    const auto& counters = s.resume->counters;
+    const auto count = [&](const char* name) -> std::uint64_t {
+      const auto it = counters.find(name);
+      return it == counters.end() ? 0 : it->second;
+    };
+    out.invalid = count("invalid");
+    out.out_of_bounds = count("out_of_bounds");
+    const std::string prefix = "failed:";
+    for (const auto& [name, value] : counters)
+      if (name.starts_with(prefix)) out.failures[name.substr(prefix.size())] = value;
+    out.algorithm = s.resume->algorithm;
+    out.next_batch = s.resume->next_batch;
+  }
+  out.history_rows = s.history.size();
+  return out;
+}
+
+namespace {
+
+template <class T>
+nlohmann::json or_null(const std::optional<T>& v) {
+  return v ? nlohmann::json(*v) : nlohmann::json(nullptr);
+}
+
+}  // namespace
+
+void to_json(nlohmann::json& out, const ArchiveSummary& s) {
+  nlohmann::json space = {{"kind", s.space_kind},
+                          {"cells", s.cells},
+                          {"dimensions", s.descriptor_bounds.size()},
+                          {"lower", s.descriptor_bounds.lower},
+                          {"upper", s.descriptor_bounds.upper},
+                          {"names", s.descriptor_names},
+                          {"resolution", nullptr}};
+  if (s.space_kind == "grid") space["resolution"] = s.resolution;
+  nlohmann::json best = nullptr;
+  if (s.best)
+    best = {{"index", s.best->index},       {"cell", s.best->cell},
+            {"fitness", s.best->fitness},   {"birth", s.best->birth},
+            {"descriptor", s.best->descriptor}, {"genome", s.best->genome}};
+  nlohmann::json resume = nullptr;
+  if (s.algorithm) resume = {{"algorithm", *s.algorithm}, {"next_batch", or_null(s.next_batch)}};
+  out = {{"format", "tessera-inspect"},
+         {"version", 1},
+         {"file", s.file},
+         {"problem", s.problem},
+         {"tool_version", s.tool_version},
+         {"seed", s.seed},
+         {"evaluations", s.evaluations},
+         {"space", space},
+         {"genome_size", s.genome_size},
+         {"elites", s.elites},
+         {"coverage", s.coverage},
+         {"qd_score", s.qd_score},
+         {"qd_offset", s.qd_offset},
+         {"max_fitness", or_null(s.max_fitness)},
+         {"best", best},
+         {"counts",
+          {{"invalid", or_null(s.invalid)},
+           {"out_of_bounds", or_null(s.out_of_bounds)},
+           {"failures", s.failures}}},
+         {"history_rows", s.history_rows},
+         {"resume", resume}};
+}
+
+}  // namespace tessera

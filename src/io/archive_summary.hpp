@@ -1,0 +1,70 @@
+// The figures `tessera inspect` shows about an archive, computed from its snapshot, and their
+// stable JSON form (header "format": "tessera-inspect", "version": 1). Other commands that report
+// on an archive reuse both.
+//
+// JSON form, version 1 (every key always present; null where the archive holds no such thing):
+//   format "tessera-inspect", version 1, file, problem, tool_version, seed, evaluations,
+//   space {kind, cells, dimensions, lower[D], upper[D], names[D], resolution[D] (grid) | null},
+//   genome_size, elites, coverage, qd_score, qd_offset, max_fitness (null when no elites),
+//   best {index, cell, fitness, birth, descriptor[D], genome[G]} | null,
+//   counts {invalid, out_of_bounds (null when the archive has no /resume), failures {reason: n}},
+//   history_rows, resume {algorithm, next_batch} | null.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <map>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "core/snapshot.hpp"
+
+namespace tessera {
+
+struct BestElite {
+  std::size_t index = 0;  // row in /elites
+  std::int64_t cell = 0;
+  double fitness = 0.0;
+  std::uint64_t birth = 0;
+  std::vector<double> descriptor;
+  std::vector<double> genome;
+};
+
+struct ArchiveSummary {
+  std::string file;
+  std::string problem;
+  std::string tool_version;
+  std::uint64_t seed = 0;
+  std::uint64_t evaluations = 0;
+
+  std::string space_kind;
+  std::int64_t cells = 0;
+  Bounds descriptor_bounds;
+  std::vector<std::string> descriptor_names;
+  std::vector<std::int64_t> resolution;  // grid only
+  std::size_t genome_size = 0;
+
+  std::size_t elites = 0;
+  double coverage = 0.0;   // elites / cells (0 for an empty unstructured archive)
+  double qd_score = 0.0;   // sum over elites, in stored order, of (fitness - qd_offset)
+  double qd_offset = 0.0;
+  std::optional<double> max_fitness;  // from the elites themselves
+  std::optional<BestElite> best;      // the fittest elite, the first in stored order on ties
+
+  std::optional<std::uint64_t> invalid;        // /resume counters, when present
+  std::optional<std::uint64_t> out_of_bounds;
+  std::map<std::string, std::uint64_t> failures;  // counters named "failed:<reason>"
+
+  std::size_t history_rows = 0;
+  std::optional<std::string> algorithm;  // /resume, when the archive can be resumed
+  std::optional<std::uint64_t> next_batch;
+};
+
+ArchiveSummary summarize_archive(const ArchiveSnapshot& snapshot, const std::string& file);
+
+void to_json(nlohmann::json& out, const ArchiveSummary& summary);
+
+}  // namespace tessera

@@ -1,0 +1,30 @@
+// Finds problem plugins. Search order: the folders in TESSERA_PLUGIN_PATH (colon-separated),
+// then <folder of the tessera executable>/plugins (build tree), then the install folder
+// <prefix>/lib/tessera/plugins. The first plugin providing a name wins.
+#pragma once
+
+#include <cstdint>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "problems/problem.hpp"
+
+namespace tessera {
+
+struct PluginEntry {
+  std::string name;
+  std::string path;
+  std::uint32_t abi_version = 0;
+  std::string error;  // non-empty when the file was found but refused (reason, one line)
+};
+
+std::vector<std::string> plugin_search_path();
+// Every plugin file found on the search path, loadable or not.
+std::vector<PluginEntry> discover_plugins();
+// Opens a plugin problem by name with its options (TOML text). Throws InputError naming the
+// plugin file and the fault, or listing the available names when none matches.
+std::shared_ptr<Problem> open_plugin_problem(const std::string& name,
+                                             const std::string& options_toml);
+
+}  // namespace tessera

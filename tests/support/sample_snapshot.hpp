@@ -1,0 +1,87 @@
+// Deterministic archive snapshots for the archive-file tests and the sample writer: every field
+// of format 1 filled with awkward but valid values (negative zero, subnormals, huge magnitudes,
+// UTF-8 names), elites in a scrambled order, so that a reader that sorts, rounds or drops
+// anything is caught.
+#pragma once
+
+#include <cfloat>
+#include <cmath>
+#include <cstdint>
+#include <numbers>
+#include <numeric>
+#include <string>
+#include <vector>
+
+#include "core/rng.hpp"
+#include "core/snapshot.hpp"
+
+namespace tessera::testing {
+
+struct SampleOptions {
+  std::string kind = "grid";  // grid | cvt | unstructured
+  std::size_t elites = 50;
+  std::size_t genome = 7;
+  std::size_t history = 12;
+  bool resume = true;
+  std::uint64_t salt = 0;     // different salts give different contents
+};
+
+inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
+  Rng rng(0x5eed + o.salt, 17);
+  ArchiveSnapshot s;
+  s.problem = "arm";
+  s.config = "# résumé of the run\n[problem]\nname = \"arm\"\n\n[search]\nseed = 42\n";
+  s.seed = 42 + o.salt;
+  s.evaluations = 1000 * (o.elites + 1) + o.salt;
+  s.tool_version = "0.1.0-test";
+  s.space_kind = o.kind;
+  s.descriptor_bounds = {{-1.0, -2.5}, {1.0, 2.5}};
+  s.descriptor_names = {"x", "höhe"};
+  const std::size_t d = 2;
+  // Distinct cells in a scrambled order: i * p mod cells visits every cell once when p is
+  // coprime with the number of cells.
+  std::size_t cells = o.elites;
+  if (o.kind == "grid") {
+    std::int64_t side = 1;
+    while (static_cast<std::size_t>(side * side * 2) < o.elites) ++side;
+    s.resolution = {side, 2 * side};
+    cells = static_cast<std::size_t>(side * 2 * side);
+  } else if (o.kind == "cvt") {
+    cells = o.elites + 3;
+    for (std::size_t k = 0; k < cells * d; ++k)
+      s.centroids.push_back(rng.uniform(s.descriptor_bounds.lower[k % d],
+                                        s.descriptor_bounds.upper[k % d]));
+  }
+  std::uint64_t step = 7919;  // prime
+  while (cells > 0 && std::gcd<std::uint64_t>(step, cells) != 1) step += 2;
+  s.genome_bounds.lower.assign(o.genome, -std::numbers::pi);
+  s.genome_bounds.upper.assign(o.genome, std::numbers::pi);
+  const double specials[] = {-0.0, 5e-324, DBL_MIN, -1e300, 1e-310, 0.1, -7.25};
+  for (std::size_t i = 0; i < o.elites; ++i) {
+    s.cell.push_back(static_cast<std::int64_t>((i * step + o.salt) % cells));
+    s.fitness.push_back(i < 7 ? specials[i] : rng.uniform(-10.0, 0.0));
+    s.birth.push_back(3 * i + 1 + (o.salt << 40));
+    for (std::size_t j = 0; j < o.genome; ++j)
+      s.genome.push_back(j == 0 && i < 7 ? specials[i] : rng.uniform(-3.0, 3.0));
+    for (std::size_t j = 0; j < d; ++j)
+      s.descriptor.push_back(
+          rng.uniform(s.descriptor_bounds.lower[j], s.descriptor_bounds.upper[j]));
+  }
+  s.qd_offset = -std::numbers::pi * std::numbers::pi;
+  for (std::size_t t = 0; t < o.history; ++t)
+    s.history.push_back({(t + 1) * 64, (t + 1.0) / (o.history + 3.0), 0.5 * t + 1e-17,
+                         -1.0 / (t + 1.0)});
+  if (o.resume) {
+    ResumeState r;
+    r.algorithm = "map-elites";
+    r.next_batch = 1 + o.salt;
+    r.counters = {{"invalid", 3}, {"out_of_bounds", 5}, {"failed:timeout", 2},
+                  {"huge", UINT64_MAX}};
+    // Engine state may hold sentinels such as -inf; only the format 1 datasets must be finite.
+    r.arrays = {{"sigma", {0.5, 0.25, -0.0}}, {"empty", {}}, {"best", {-INFINITY}}};
+    s.resume = r;
+  }
+  return s;
+}
+
+}  // namespace tessera::testing

@@ -1,0 +1,562 @@
+// Archive files (format 1, DESIGN.md): bit-exact round trips, every bad-file case refused with
+// one line naming the file and the fault, and writes that never damage the previous file.
+// Damaged files are made with the HDF5 C++ library itself (the reference implementation of the
+// format, libhdf5 from Debian).
+#include <catch2/catch.hpp>
+
+#include <H5Cpp.h>
+#include <signal.h>
+#include <stdlib.h>
+#include <sys/resource.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <chrono>
+#include <cmath>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+#include <random>
+#include <set>
+#include <string>
+#include <thread>
+#include <vector>
+
+#include "core/errors.hpp"
+#include "io/archive_file.hpp"
+#include "support/sample_snapshot.hpp"
+
+using namespace tessera;
+using tessera::testing::SampleOptions;
+using tessera::testing::sample_snapshot;
+namespace fs = std::filesystem;
+
+namespace {
+
+struct TempDir {
+  fs::path path;
+  TempDir() {
+    char name[] = "/tmp/tessera-archive-XXXXXX";
+    REQUIRE(::mkdtemp(name) != nullptr);
+    path = name;
+  }
+  ~TempDir() {
+    std::error_code ec;
+    fs::permissions(path, fs::perms::owner_all, ec);
+    fs::remove_all(path, ec);
+  }
+  std::string file(const std::string& name) const { return (path / name).string(); }
+  std::set<std::string> listing() const {
+    std::set<std::string> names;
+    for (const auto& e : fs::directory_iterator(path)) names.insert(e.path().filename().string());
+    return names;
+  }
+};
+
+// Bitwise equality: a round trip must not even turn -0.0 into 0.0.
+bool same_bits(const std::vector<double>& a, const std::vector<double>& b) {
+  return a.size() == b.size() &&
+         (a.empty() || std::memcmp(a.data(), b.data(), a.size() * sizeof(double)) == 0);
+}
+
+bool same_bits(double a, double b) { return std::memcmp(&a, &b, sizeof a) == 0; }
+
+void require_equal(const ArchiveSnapshot& a, const ArchiveSnapshot& b) {
+  CHECK(a.problem == b.problem);
+  CHECK(a.config == b.config);
+  CHECK(a.seed == b.seed);
+  CHECK(a.evaluations == b.evaluations);
+  CHECK(a.tool_version == b.tool_version);
+  CHECK(a.space_kind == b.space_kind);
+  CHECK(same_bits(a.descriptor_bounds.lower, b.descriptor_bounds.lower));
+  CHECK(same_bits(a.descriptor_bounds.upper, b.descriptor_bounds.upper));
+  CHECK(a.descriptor_names == b.descriptor_names);
+  CHECK(a.resolution == b.resolution);
+  CHECK(same_bits(a.centroids, b.centroids));
+  CHECK(same_bits(a.genome_bounds.lower, b.genome_bounds.lower));
+  CHECK(same_bits(a.genome_bounds.upper, b.genome_bounds.upper));
+  CHECK(a.cell == b.cell);  // same order: the order is engine state
+  CHECK(same_bits(a.genome, b.genome));
+  CHECK(same_bits(a.descriptor, b.descriptor));
+  CHECK(same_bits(a.fitness, b.fitness));
+  CHECK(a.birth == b.birth);
+  REQUIRE(a.history.size() == b.history.size());
+  for (std::size_t t = 0; t < a.history.size(); ++t) {
+    CHECK(a.history[t].evaluations == b.history[t].evaluations);
+    CHECK(same_bits(a.history[t].coverage, b.history[t].coverage));
+    CHECK(same_bits(a.history[t].qd_score, b.history[t].qd_score));
+    CHECK(same_bits(a.history[t].max_fitness, b.history[t].max_fitness));
+  }
+  CHECK(same_bits(a.qd_offset, b.qd_offset));
+  REQUIRE(a.resume.has_value() == b.resume.has_value());
+  if (a.resume) {
+    CHECK(a.resume->algorithm == b.resume->algorithm);
+    CHECK(a.resume->next_batch == b.resume->next_batch);
+    CHECK(a.resume->counters == b.resume->counters);
+    REQUIRE(a.resume->arrays.size() == b.resume->arrays.size());
+    for (const auto& [name, values] : a.resume->arrays) {
+      REQUIRE(b.resume->arrays.count(name) == 1);
+      CHECK(same_bits(values, b.resume->arrays.at(name)));
+    }
+  }
+}
+
+// Reading `path` must fail with exactly one line "PATH: ..." that contains `fault`.
+void require_refused(const std::string& path, const std::string& fault) {
+  try {
+    read_archive_file(path);
+    FAIL("read_archive_file accepted " << path << " (expected: " << fault << ")");
+  } catch (const InputError& e) {
+    const std::string message = e.what();
+    INFO(message);
+    CHECK(message.rfind(path + ": ", 0) == 0);
+    CHECK(message.find(fault) != std::string::npos);
+    CHECK(message.find('\n') == std::string::npos);
+  }
+}
+
+std::vector<char> file_bytes(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  return {std::istreambuf_iterator<char>(in), std::istreambuf_iterator<char>()};
+}
+
+// Replaces dataset `name` of an archive by `values` reshaped to `dims` (damage on purpose).
+template <class T>
+void replace_dataset(const std::string& path, const std::string& name, const std::vector<T>& values,
+                     std::vector<hsize_t> dims, const H5::PredType& type) {
+  H5::H5File file(path, H5F_ACC_RDWR);
+  file.unlink(name);
+  H5::DataSpace space(static_cast<int>(dims.size()), dims.data());
+  H5::DataSet ds = file.createDataSet(name, type, space);
+  if (!values.empty()) ds.write(values.data(), type);
+}
+
+void replace_doubles(const std::string& path, const std::string& name,
+                     const std::vector<double>& values, std::vector<hsize_t> dims) {
+  replace_dataset(path, name, values, std::move(dims), H5::PredType::NATIVE_DOUBLE);
+}
+
+}  // namespace
+
+TEST_CASE("grid, cvt and unstructured archives round-trip bit for bit", "[archive_file]") {
+  H5::Exception::dontPrint();
+  TempDir dir;
+  for (const char* kind : {"grid", "cvt", "unstructured"}) {
+    for (bool resume : {true, false}) {
+      SECTION(std::string(kind) + (resume ? " with resume state" : " without resume state")) {
+        SampleOptions o;
+        o.kind = kind;
+        o.resume = resume;
+        o.elites = 137;
+        const ArchiveSnapshot original = sample_snapshot(o);
+        const std::string path = dir.file(std::string(kind) + ".h5");
+        write_archive_file(path, original);
+        const ArchiveSnapshot back = read_archive_file(path);
+        require_equal(original, back);
+        // Only the archive itself remains: the temporary file was renamed away.
+        CHECK(dir.listing() == std::set<std::string>{std::string(kind) + ".h5"});
+      }
+    }
+  }
+}
+
+TEST_CASE("an archive with no elites and no history is written and read", "[archive_file]") {
+  TempDir dir;
+  for (const char* kind : {"grid", "cvt", "unstructured"}) {
+    SampleOptions o;
+    o.kind = kind;
+    o.elites = 0;
+    o.history = 0;
+    const ArchiveSnapshot original = sample_snapshot(o);
+    const std::string path = dir.file("empty.h5");
+    write_archive_file(path, original);
+    const ArchiveSnapshot back = read_archive_file(path);
+    CHECK(back.elite_count() == 0);
+    CHECK(back.history.empty());
+    require_equal(original, back);
+  }
+}
+
+TEST_CASE("the datasets have the format 1 types and are chunked and compressed",
+          "[archive_file]") {
+  H5::Exception::dontPrint();
+  TempDir dir;
+  const std::string path = dir.file("a.h5");
+  write_archive_file(path, sample_snapshot({}));
+  H5::H5File file(path, H5F_ACC_RDONLY);
+  const auto type_of = [&](const char* name) { return file.openDataSet(name).getDataType(); };
+  CHECK(type_of("/elites/cell") == H5::PredType::STD_I64LE);
+  CHECK(type_of("/elites/birth") == H5::PredType::STD_U64LE);
+  CHECK(type_of("/elites/genome") == H5::PredType::IEEE_F64LE);
+  CHECK(type_of("/space/resolution") == H5::PredType::STD_I64LE);
+  CHECK(type_of("/history/evaluations") == H5::PredType::STD_U64LE);
+  const H5::StrType names = file.openDataSet("/space/names").getStrType();
+  CHECK(names.isVariableStr());
+  CHECK(names.getCset() == H5T_CSET_UTF8);
+  const H5::StrType format = file.openAttribute("format").getStrType();
+  CHECK(format.isVariableStr());
+  CHECK(format.getCset() == H5T_CSET_UTF8);
+  CHECK(file.openAttribute("seed").getDataType() == H5::PredType::STD_U64LE);
+  CHECK_FALSE(file.nameExists("/space/centroids"));  // grid only has resolution
+  const H5::DSetCreatPropList props = file.openDataSet("/elites/genome").getCreatePlist();
+  CHECK(props.getLayout() == H5D_CHUNKED);
+  bool deflate = false;
+  for (int i = 0; i < props.getNfilters(); ++i) {
+    unsigned flags = 0, config = 0;
+    std::size_t n = 0;
+    char name[32];
+    deflate = deflate || props.getFilter(i, flags, n, nullptr, sizeof name, name, config) ==
+                             H5Z_FILTER_DEFLATE;
+  }
+  CHECK(deflate);
+}
+
+TEST_CASE("100,000 elites with 100-parameter genomes round-trip", "[archive_file][large]") {
+  TempDir dir;
+  SampleOptions o;
+  o.elites = 100000;
+  o.genome = 100;
+  const ArchiveSnapshot original = sample_snapshot(o);
+  const std::string path = dir.file("large.h5");
+  write_archive_file(path, original);
+  const ArchiveSnapshot back = read_archive_file(path);
+  REQUIRE(back.elite_count() == 100000);
+  require_equal(original, back);
+}
+
+TEST_CASE("bad files are refused with one line naming the file and the fault",
+          "[archive_file]") {
+  H5::Exception::dontPrint();
+  TempDir dir;
+  const ArchiveSnapshot good = sample_snapshot({});
+  const std::string valid = dir.file("valid.h5");
+  write_archive_file(valid, good);
+  const auto copy_of_valid = [&](const std::string& name) {
+    const std::string path = dir.file(name);
+    fs::copy_file(valid, path, fs::copy_options::overwrite_existing);
+    return path;
+  };
+
+  SECTION("missing file") { require_refused(dir.file("nothing.h5"), "no such file"); }
+
+  SECTION("a directory") { require_refused(dir.path.string(), "is a directory"); }
+
+  SECTION("a text file") {
+    const std::string path = dir.file("notes.h5");
+    std::ofstream(path) << "just some text\n";
+    require_refused(path, "not an HDF5 file");
+  }
+
+  SECTION("an empty file") {
+    const std::string path = dir.file("empty.h5");
+    std::ofstream{path};
+    require_refused(path, "not an HDF5 file");
+  }
+
+  SECTION("an HDF5 file of another kind") {
+    const std::string path = dir.file("other.h5");
+    {
+      H5::H5File file(path, H5F_ACC_TRUNC);
+      const hsize_t n = 3;
+      const double v[3] = {1, 2, 3};
+      file.createDataSet("values", H5::PredType::IEEE_F64LE, H5::DataSpace(1, &n))
+          .write(v, H5::PredType::NATIVE_DOUBLE);
+    }
+    require_refused(path, "not a tessera archive");
+  }
+
+  SECTION("an HDF5 file whose format attribute names another format") {
+    const std::string path = copy_of_valid("renamed.h5");
+    {
+      H5::H5File file(path, H5F_ACC_RDWR);
+      file.removeAttr("format");
+      H5::StrType t(H5::PredType::C_S1, H5T_VARIABLE);
+      file.createAttribute("format", t, H5::DataSpace(H5S_SCALAR))
+          .write(t, std::string("something-else"));
+    }
+    require_refused(path, "not a tessera archive");
+  }
+
+  SECTION("a newer format version") {
+    const std::string path = copy_of_valid("newer.h5");
+    {
+      H5::H5File file(path, H5F_ACC_RDWR);
+      const std::int64_t two = 2;
+      file.openAttribute("format_version").write(H5::PredType::NATIVE_INT64, &two);
+    }
+    require_refused(path, "written by a newer tessera (format 2); this one reads format 1");
+  }
+
+  SECTION("a truncated file") {
+    const std::string path = copy_of_valid("half.h5");
+    fs::resize_file(path, fs::file_size(path) / 2);
+    require_refused(path, "truncated or damaged HDF5 file");
+  }
+
+  SECTION("a file cut just after its first block") {
+    const std::string path = copy_of_valid("stub.h5");
+    fs::resize_file(path, 600);
+    require_refused(path, "truncated or damaged HDF5 file");
+  }
+
+  SECTION("rows of /elites disagree") {
+    const std::string path = copy_of_valid("rows.h5");
+    std::vector<std::uint64_t> birth(good.birth.begin(), good.birth.end() - 1);
+    replace_dataset(path, "/elites/birth", birth, {birth.size()}, H5::PredType::NATIVE_UINT64);
+    require_refused(path, "/elites/birth has 49 rows but /elites/fitness has 50");
+  }
+
+  SECTION("genome columns disagree with /genome/lower") {
+    const std::string path = copy_of_valid("columns.h5");
+    std::vector<double> genome = good.genome;
+    genome.resize(50 * 6);
+    replace_doubles(path, "/elites/genome", genome, {50, 6});
+    require_refused(path, "/elites/genome has 6 columns but /genome/lower has 7");
+  }
+
+  SECTION("descriptor columns disagree with /space/lower") {
+    const std::string path = copy_of_valid("dcolumns.h5");
+    replace_doubles(path, "/elites/descriptor", std::vector<double>(150, 0.5), {50, 3});
+    require_refused(path, "/elites/descriptor has 3 columns but /space/lower has 2");
+  }
+
+  SECTION("history columns disagree") {
+    const std::string path = copy_of_valid("history.h5");
+    replace_doubles(path, "/history/qd_score", {1.0, 2.0}, {2});
+    require_refused(path, "/history/qd_score has 2 rows but /history/evaluations has 12");
+  }
+
+  SECTION("grid resolution of the wrong length") {
+    const std::string path = copy_of_valid("resolution.h5");
+    replace_dataset<std::int64_t>(path, "/space/resolution", {10, 10, 10}, {3},
+                                  H5::PredType::NATIVE_INT64);
+    require_refused(path, "/space/resolution has 3 entries but /space/lower has 2");
+  }
+
+  SECTION("cvt centroids with the wrong number of columns") {
+    SampleOptions o;
+    o.kind = "cvt";
+    const std::string path = dir.file("centroids.h5");
+    write_archive_file(path, sample_snapshot(o));
+    replace_doubles(path, "/space/centroids", std::vector<double>(53 * 3, 0.0), {53, 3});
+    require_refused(path, "/space/centroids has 3 columns but /space/lower has 2");
+  }
+
+  SECTION("a cell index out of range") {
+    const std::string path = copy_of_valid("range.h5");
+    std::vector<std::int64_t> cell = good.cell;
+    const std::int64_t cells = good.cell_count();
+    cell[4] = cells;
+    replace_dataset(path, "/elites/cell", cell, {cell.size()}, H5::PredType::NATIVE_INT64);
+    require_refused(path, "/elites/cell[4] = " + std::to_string(cells) + " is outside 0.." +
+                              std::to_string(cells - 1));
+  }
+
+  SECTION("two elites in one cell") {
+    const std::string path = copy_of_valid("duplicate.h5");
+    std::vector<std::int64_t> cell = good.cell;
+    cell[9] = cell[3];
+    replace_dataset(path, "/elites/cell", cell, {cell.size()}, H5::PredType::NATIVE_INT64);
+    require_refused(path, "/elites/cell[9] = " + std::to_string(cell[3]) + " is a duplicated cell");
+  }
+
+  SECTION("NaN in fitness") {
+    const std::string path = copy_of_valid("nan.h5");
+    std::vector<double> fitness = good.fitness;
+    fitness[2] = std::nan("");
+    replace_doubles(path, "/elites/fitness", fitness, {fitness.size()});
+    require_refused(path, "/elites/fitness[2] is NaN");
+  }
+
+  SECTION("infinity in a genome") {
+    const std::string path = copy_of_valid("inf.h5");
+    std::vector<double> genome = good.genome;
+    genome[3 * 7 + 5] = INFINITY;
+    replace_doubles(path, "/elites/genome", genome, {50, 7});
+    require_refused(path, "/elites/genome[3, 5] is +inf");
+  }
+
+  SECTION("NaN in descriptor bounds") {
+    const std::string path = copy_of_valid("bounds.h5");
+    replace_doubles(path, "/space/upper", {1.0, std::nan("")}, {2});
+    require_refused(path, "/space/upper[1] is NaN");
+  }
+
+  SECTION("NaN in history") {
+    const std::string path = copy_of_valid("hnan.h5");
+    std::vector<double> coverage(12, 0.5);
+    coverage[11] = std::nan("");
+    replace_doubles(path, "/history/coverage", coverage, {12});
+    require_refused(path, "/history/coverage[11] is NaN");
+  }
+
+  SECTION("a missing dataset") {
+    const std::string path = copy_of_valid("missing.h5");
+    H5::H5File(path, H5F_ACC_RDWR).unlink("/elites/descriptor");
+    require_refused(path, "missing dataset /elites/descriptor");
+  }
+
+  SECTION("a dataset claiming far more values than the file stores") {
+    // 10^8 rows per history column but only one chunk written: the reader must refuse from the
+    // sizes alone, before allocating 800 MB per column.
+    const std::string path = copy_of_valid("claims.h5");
+    {
+      H5::H5File file(path, H5F_ACC_RDWR);
+      for (const char* name : {"/history/evaluations", "/history/coverage", "/history/qd_score",
+                               "/history/max_fitness"}) {
+        const bool ints = std::strcmp(name, "/history/evaluations") == 0;
+        file.unlink(name);
+        const hsize_t dims = 100000000, chunk = 1024;
+        H5::DSetCreatPropList props;
+        props.setChunk(1, &chunk);
+        H5::DataSet ds = file.createDataSet(
+            name, ints ? H5::PredType::STD_U64LE : H5::PredType::IEEE_F64LE,
+            H5::DataSpace(1, &dims), props);
+        H5::DataSpace memory(1, &chunk);
+        H5::DataSpace selection = ds.getSpace();
+        const hsize_t start = 0;
+        selection.selectHyperslab(H5S_SELECT_SET, &chunk, &start);
+        std::vector<double> zeros(chunk, 0.0);
+        ds.write(zeros.data(), H5::PredType::NATIVE_DOUBLE, memory, selection);
+      }
+    }
+    require_refused(path, "/history/evaluations claims 100000000 values but stores only");
+  }
+
+  SECTION("a dataset claiming more values than any archive holds") {
+    const std::string path = copy_of_valid("absurd.h5");
+    {
+      H5::H5File file(path, H5F_ACC_RDWR);
+      file.unlink("/elites/genome");
+      const hsize_t dims[2] = {50, hsize_t{1} << 40}, chunk[2] = {1, 1024};
+      H5::DSetCreatPropList props;
+      props.setChunk(2, chunk);
+      file.createDataSet("/elites/genome", H5::PredType::IEEE_F64LE, H5::DataSpace(2, dims), props);
+    }
+    require_refused(path, "/elites/genome claims 50 x 1099511627776 values, more than tessera reads");
+  }
+
+  SECTION("the reader changes nothing on disk") {
+    const std::vector<char> before = file_bytes(valid);
+    const auto listing = dir.listing();
+    read_archive_file(valid);
+    CHECK(file_bytes(valid) == before);
+    CHECK(dir.listing() == listing);
+  }
+}
+
+TEST_CASE("a failed write leaves the previous archive intact", "[archive_file]") {
+  TempDir dir;
+  const std::string path = dir.file("run.h5");
+  const ArchiveSnapshot first = sample_snapshot({});
+  write_archive_file(path, first);
+  const std::vector<char> before = file_bytes(path);
+
+  SECTION("a snapshot that fails validation touches nothing") {
+    SampleOptions o;
+    o.salt = 1;
+    ArchiveSnapshot bad = sample_snapshot(o);
+    bad.fitness[0] = std::nan("");
+    CHECK_THROWS_WITH(write_archive_file(path, bad),
+                      Catch::Contains(path) && Catch::Contains("/elites/fitness[0] is NaN"));
+    bad = sample_snapshot(o);
+    bad.birth.pop_back();
+    CHECK_THROWS_AS(write_archive_file(path, bad), std::invalid_argument);
+  }
+
+  SECTION("the file system refuses the temporary file") {
+    if (::geteuid() == 0) {
+      WARN("running as root: permissions do not stop writes; checked by the size limit below");
+      return;
+    }
+    fs::permissions(dir.path, fs::perms::owner_read | fs::perms::owner_exec);
+    try {
+      write_archive_file(path, sample_snapshot({.salt = 2}));
+      FAIL("write into a read-only folder succeeded");
+    } catch (const InputError& e) {
+      CHECK_THAT(e.what(), Catch::StartsWith(path + ": cannot write archive:") &&
+                               Catch::Contains("Permission denied"));
+    }
+    fs::permissions(dir.path, fs::perms::owner_all);
+  }
+
+  SECTION("the disk fills up half way through the write") {
+    // A child process limited to 64 KiB per file (RLIMIT_FSIZE; SIGXFSZ ignored so that write()
+    // fails with EFBIG instead of killing it) writes a 2 MB archive over the old one.
+    const pid_t child = ::fork();
+    REQUIRE(child >= 0);
+    if (child == 0) {
+      ::signal(SIGXFSZ, SIG_IGN);
+      const rlimit limit{65536, 65536};
+      ::setrlimit(RLIMIT_FSIZE, &limit);
+      SampleOptions o;
+      o.elites = 5000;
+      o.genome = 50;
+      o.salt = 3;
+      try {
+        write_archive_file(path, sample_snapshot(o));
+      } catch (const InputError& e) {
+        const std::string m = e.what();
+        const bool one_line = m.find('\n') == std::string::npos;
+        ::_exit(m.rfind(path + ": cannot write archive: ", 0) == 0 && one_line ? 10 : 11);
+      } catch (...) {
+        ::_exit(12);
+      }
+      ::_exit(13);  // the write should not have succeeded
+    }
+    int status = 0;
+    REQUIRE(::waitpid(child, &status, 0) == child);
+    REQUIRE(WIFEXITED(status));
+    CHECK(WEXITSTATUS(status) == 10);
+  }
+
+  SECTION("the target is a folder") {
+    const std::string folder = dir.file("folder.h5");
+    fs::create_directory(folder);
+    CHECK_THROWS_AS(write_archive_file(folder, first), InputError);
+    CHECK(fs::is_directory(folder));
+    fs::remove(folder);
+  }
+
+  CHECK(file_bytes(path) == before);
+  require_equal(first, read_archive_file(path));
+  CHECK(dir.listing() == std::set<std::string>{"run.h5"});  // no temporary file left behind
+}
+
+TEST_CASE("kill -9 during a write leaves the previous or the new archive", "[archive_file]") {
+  // A child writes two different snapshots over the same path in a loop; the parent kills it
+  // with SIGKILL at random moments. Afterwards the path must read back as one of the two whole.
+  TempDir dir;
+  const std::string path = dir.file("checkpoint.h5");
+  SampleOptions a;
+  a.elites = 20000;
+  a.genome = 40;
+  SampleOptions b = a;
+  b.salt = 1;
+  const ArchiveSnapshot snap_a = sample_snapshot(a);
+  const ArchiveSnapshot snap_b = sample_snapshot(b);
+  write_archive_file(path, snap_a);
+  std::mt19937 gen(12345);
+  std::uniform_int_distribution<int> delay_ms(5, 400);
+  for (int round = 0; round < 6; ++round) {
+    const pid_t child = ::fork();
+    REQUIRE(child >= 0);
+    if (child == 0) {
+      for (std::uint64_t i = 0;; ++i) write_archive_file(path, i % 2 ? snap_a : snap_b);
+    }
+    std::this_thread::sleep_for(std::chrono::milliseconds(delay_ms(gen)));
+    ::kill(child, SIGKILL);
+    int status = 0;
+    REQUIRE(::waitpid(child, &status, 0) == child);
+    REQUIRE(WIFSIGNALED(status));
+    const ArchiveSnapshot back = read_archive_file(path);
+    const bool is_a = back.evaluations == snap_a.evaluations;
+    require_equal(is_a ? snap_a : snap_b, back);
+    // The killed writer may leave its temporary file; it never replaces the archive.
+    for (const auto& name : dir.listing())
+      if (name != "checkpoint.h5") {
+        CHECK(name.rfind(".checkpoint.h5.tmp-", 0) == 0);
+        fs::remove(dir.path / name);
+      }
+  }
+}
