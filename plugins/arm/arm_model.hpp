@@ -48,4 +48,26 @@ inline void evaluate(const double* theta, std::size_t n, double& fitness, double
   fitness = -angle_variance(theta, n);
 }
 
+// Damage and a reaching task (issue 7), for recovery by trial and error. A stuck joint holds
+// `stuck_angle` whatever the genome asks; with a target the fitness is minus the Euclidean
+// distance from the end effector to it. The descriptor stays the end effector actually reached.
+struct ArmDamage {
+  long stuck_joint = -1;  // 0-based index from the base; -1 = none
+  double stuck_angle = 0.0;
+  bool has_target = false;
+  double target_x = 0.0;
+  double target_y = 0.0;
+};
+
+// `scratch` holds n angles (the genome with the stuck joint overridden).
+inline void evaluate_damaged(const double* theta, std::size_t n, const ArmDamage& damage,
+                             double* scratch, double& fitness, double* descriptor) {
+  for (std::size_t i = 0; i < n; ++i) scratch[i] = theta[i];
+  if (damage.stuck_joint >= 0) scratch[damage.stuck_joint] = damage.stuck_angle;
+  forward_kinematics(scratch, n, descriptor[0], descriptor[1]);
+  fitness = damage.has_target ? -std::hypot(descriptor[0] - damage.target_x,
+                                            descriptor[1] - damage.target_y)
+                              : -angle_variance(scratch, n);
+}
+
 }  // namespace tessera::arm

@@ -5,7 +5,9 @@
 
 #include <tessera/plugin.h>
 
+#include <toml++/toml.h>
 #include <algorithm>
+#include <cmath>
 #include <cstdint>
 #include <cstring>
 #include <exception>
@@ -13,7 +15,6 @@
 #include <limits>
 #include <string>
 #include <string_view>
-#include <toml++/toml.h>
 #include <vector>
 
 namespace tessera::plugin_glue {
@@ -23,7 +24,8 @@ namespace tessera::plugin_glue {
 inline void write_error(char* error, std::size_t size, std::string_view text) {
   if (error == nullptr || size == 0) return;
   const std::size_t n = std::min(text.size(), size - 1);
-  for (std::size_t i = 0; i < n; ++i) error[i] = (text[i] == '\n' || text[i] == '\r') ? ' ' : text[i];
+  for (std::size_t i = 0; i < n; ++i)
+    error[i] = (text[i] == '\n' || text[i] == '\r') ? ' ' : text[i];
   error[n] = '\0';
 }
 
@@ -48,15 +50,16 @@ inline toml::table parse_options(const char* text) {
 }
 
 // Refuses any key not in `allowed`, naming it and the accepted keys.
-inline void check_keys(const toml::table& options, std::initializer_list<std::string_view> allowed) {
+inline void check_keys(const toml::table& options,
+                       std::initializer_list<std::string_view> allowed) {
   for (const auto& [key, value] : options) {
     bool known = false;
     for (auto name : allowed) known = known || key.str() == name;
     if (!known) {
       std::string list;
       for (auto name : allowed) list += (list.empty() ? "" : ", ") + std::string(name);
-      throw OptionError("unknown option '" + std::string(key.str()) + "' (accepted: " +
-                        (list.empty() ? "none" : list) + ")");
+      throw OptionError("unknown option '" + std::string(key.str()) +
+                        "' (accepted: " + (list.empty() ? "none" : list) + ")");
     }
   }
 }
@@ -67,13 +70,43 @@ inline std::int64_t integer_option(const toml::table& options, std::string_view 
   const toml::node* node = options.get(key);
   if (node == nullptr) return fallback;
   const auto value = node->value_exact<std::int64_t>();
-  if (!value)
-    throw OptionError("option '" + std::string(key) + "' must be an integer");
+  if (!value) throw OptionError("option '" + std::string(key) + "' must be an integer");
   if (*value < min || *value > max)
     throw OptionError("option '" + std::string(key) + "' = " + std::to_string(*value) +
                       " is out of range [" + std::to_string(min) + ", " + std::to_string(max) +
                       "]");
   return *value;
+}
+
+// A finite number option within [min, max] (integers accepted), or `fallback` when absent.
+inline double number_option(const toml::table& options, std::string_view key, double fallback,
+                            double min, double max) {
+  const toml::node* node = options.get(key);
+  if (node == nullptr) return fallback;
+  const auto value = node->value<double>();
+  if (!value || !std::isfinite(*value))
+    throw OptionError("option '" + std::string(key) + "' must be a finite number");
+  if (*value < min || *value > max)
+    throw OptionError("option '" + std::string(key) + "' = " + std::to_string(*value) +
+                      " is out of range [" + std::to_string(min) + ", " + std::to_string(max) +
+                      "]");
+  return *value;
+}
+
+// An array of exactly `size` finite numbers, or an empty vector when absent.
+inline std::vector<double> numbers_option(const toml::table& options, std::string_view key,
+                                          std::size_t size) {
+  const toml::node* node = options.get(key);
+  if (node == nullptr) return {};
+  const toml::array* array = node->as_array();
+  std::vector<double> out;
+  if (array != nullptr)
+    for (const auto& element : *array)
+      if (const auto v = element.value<double>(); v && std::isfinite(*v)) out.push_back(*v);
+  if (array == nullptr || out.size() != array->size() || out.size() != size)
+    throw OptionError("option '" + std::string(key) + "' must be an array of " +
+                      std::to_string(size) + " finite numbers");
+  return out;
 }
 
 // Owns everything tsr_metadata points to, for the lifetime of an instance.

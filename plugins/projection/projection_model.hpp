@@ -11,8 +11,8 @@
 
 namespace tessera::projection {
 
-inline constexpr double kBound = 5.12;    // genome in [-5.12, 5.12]^n
-inline constexpr double kShift = 2.048;   // the optimum sits at x_i = 2.048
+inline constexpr double kBound = 5.12;   // genome in [-5.12, 5.12]^n
+inline constexpr double kShift = 2.048;  // the optimum sits at x_i = 2.048
 inline constexpr double kFitnessLower = 0.0;
 inline constexpr double kFitnessUpper = 100.0;
 
@@ -49,10 +49,14 @@ inline double objective_max(Kind kind, std::size_t n) {
 }
 
 // Clipping rule of the projection: c(x) = x if |x| <= 5.12, else 5.12 / x.
-inline double clip(double x) { return std::fabs(x) <= kBound ? x : kBound / x; }
+inline double clip(double x) {
+  return std::fabs(x) <= kBound ? x : kBound / x;
+}
 
 // Sizes of the two halves: d1 sums the first floor(n/2) parameters, d2 the rest.
-inline std::size_t first_half(std::size_t n) { return n / 2; }
+inline std::size_t first_half(std::size_t n) {
+  return n / 2;
+}
 
 // Descriptor bounds: each sum of clipped values lies within +-5.12 * (its number of terms).
 inline double descriptor_bound(std::size_t n, std::size_t which) {

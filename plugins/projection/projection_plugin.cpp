@@ -50,9 +50,13 @@ struct tsr_instance {
 
 extern "C" {
 
-TSR_EXPORT uint32_t tsr_abi_version(void) { return TSR_ABI_VERSION; }
+TSR_EXPORT uint32_t tsr_abi_version(void) {
+  return TSR_ABI_VERSION;
+}
 
-TSR_EXPORT const char* tsr_problem_name(void) { return kName; }
+TSR_EXPORT const char* tsr_problem_name(void) {
+  return kName;
+}
 
 TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_t error_size) {
   try {
@@ -92,12 +96,14 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
   for (std::size_t k = 0; k < count; ++k) {
     double* descriptor = descriptors + 2 * k;
     model::evaluate(kKind, genomes + k * n, n, instance->f_max, fitness[k], descriptor);
-    valid[k] = std::isfinite(fitness[k]) && std::isfinite(descriptor[0]) &&
-               std::isfinite(descriptor[1]);
+    valid[k] =
+        std::isfinite(fitness[k]) && std::isfinite(descriptor[0]) && std::isfinite(descriptor[1]);
   }
   return TSR_OK;
 }
 
-TSR_EXPORT void tsr_destroy(tsr_instance* instance) { delete instance; }
+TSR_EXPORT void tsr_destroy(tsr_instance* instance) {
+  delete instance;
+}
 
 }  // extern "C"

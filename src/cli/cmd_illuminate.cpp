@@ -40,12 +40,23 @@ int run_illuminate(const IlluminateOptions& o) {
   if (fs::exists(archive, ec) && !o.force)
     throw InputError(archive.string() + ": already exists; pass --force to overwrite it, or " +
                      "continue it with `tessera resume " + archive.string() + "`");
+  const bool created = !fs::exists(out_dir, ec);
   fs::create_directories(out_dir, ec);
   if (ec) throw InputError(out_dir.string() + ": cannot create the output folder: " + ec.message());
 
   tbb::global_control threads(tbb::global_control::max_allowed_parallelism,
                               o.threads == 0 ? tbb::info::default_concurrency() : o.threads);
-  PreparedRun run = prepare_run(std::move(config), o.threads, (out_dir / "workers.log").string());
+  PreparedRun run;
+  try {
+    run = prepare_run(std::move(config), o.threads, (out_dir / "workers.log").string());
+  } catch (...) {
+    // Leave nothing behind when the run could not even start.
+    if (created) {
+      fs::remove(out_dir / "workers.log", ec);
+      fs::remove(out_dir, ec);
+    }
+    throw;
+  }
   if (!o.quiet && !run.space_note.empty()) std::cerr << "tessera: " << run.space_note << "\n";
 
   const auto start = std::chrono::steady_clock::now();

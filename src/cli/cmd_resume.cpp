@@ -38,21 +38,13 @@ int run_resume(const ResumeOptions& o) {
     overrides.push_back("search.evaluations=" + std::to_string(o.evaluations));
   }
   const std::string base = fs::absolute(fs::path(o.archive)).parent_path().string();
-  RunConfig config;
-  try {
-    config = parse_run_text(saved.config, o.archive + " (stored run file)", base, overrides);
-  } catch (const InputError& e) {
-    throw InputError(std::string(e.what()));
-  }
+  RunConfig config = parse_run_text(saved.config, o.archive + " [stored run file]", base, overrides);
 
   tbb::global_control threads(tbb::global_control::max_allowed_parallelism,
                               o.threads == 0 ? tbb::info::default_concurrency() : o.threads);
-  PreparedRun run;
-  try {
-    run = prepare_run(std::move(config), o.threads, (fs::path(base) / "workers.log").string(), &saved);
-  } catch (const InputError& e) {
-    throw InputError(o.archive + ": cannot resume: " + e.what());
-  }
+  // Errors name the archive through the config's source, e.g. a problem no longer available.
+  PreparedRun run =
+      prepare_run(std::move(config), o.threads, (fs::path(base) / "workers.log").string(), &saved);
   try {
     run.search->restore(saved);
   } catch (const std::invalid_argument& e) {

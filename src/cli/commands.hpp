@@ -9,5 +9,10 @@ namespace tessera::cli {
 void register_illuminate(CLI::App& app);
 void register_resume(CLI::App& app);
 void register_inspect(CLI::App& app);
+void register_problems(CLI::App& app);
+void register_query(CLI::App& app);
+void register_front(CLI::App& app);
+void register_report(CLI::App& app);
+void register_adapt(CLI::App& app);
 
 }  // namespace tessera::cli

@@ -4,6 +4,8 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
+#include "cli/run_setup.hpp"
+#include "eval/cluster.hpp"
 #include "core/errors.hpp"
 
 namespace {
@@ -17,6 +19,13 @@ const char* kAbout =
 }  // namespace
 
 int main(int argc, char** argv) {
+  // Under mpirun every rank runs this binary: ranks 1..N-1 serve evaluations and exit.
+  tessera::cluster::init(&argc, &argv);
+  if (tessera::cluster::active() && tessera::cluster::rank() != 0)
+    return tessera::cluster::serve(tessera::cli::open_worker_problem);
+  struct ClusterGuard {
+    ~ClusterGuard() { tessera::cluster::finish(); }
+  } cluster_guard;
   CLI::App app{kAbout, "tessera"};
   app.require_subcommand(1);
   app.set_version_flag("--version", std::string("tessera ") + TESSERA_VERSION
@@ -29,6 +38,11 @@ int main(int argc, char** argv) {
   tessera::cli::register_illuminate(app);
   tessera::cli::register_resume(app);
   tessera::cli::register_inspect(app);
+  tessera::cli::register_problems(app);
+  tessera::cli::register_query(app);
+  tessera::cli::register_front(app);
+  tessera::cli::register_report(app);
+  tessera::cli::register_adapt(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

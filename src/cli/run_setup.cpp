@@ -4,6 +4,7 @@
 
 #include "core/errors.hpp"
 #include "core/map_elites.hpp"
+#include "core/population_search.hpp"
 #include "core/variation_emitter.hpp"
 #include "eval/problem_factory.hpp"
 #include "io/cvt_cache.hpp"
@@ -38,10 +39,16 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
                         const ArchiveSnapshot* saved) {
   PreparedRun run;
   config.problem.log_path = log_path;
-  run.problem = open_problem(config.problem);
+  try {
+    run.problem = open_problem(config.problem);
+  } catch (const InputError& e) {
+    throw InputError(config.source + ": [problem] " + e.what());
+  }
   const ProblemInfo& info = run.problem->info();
   std::shared_ptr<const DescriptorSpace> space;
-  if (saved) {
+  // Population searches save an unstructured archive; their reference space (the [space] of
+  // the stored run file) is rebuilt, deterministically, from the configuration.
+  if (saved && saved->space_kind != "unstructured") {
     try {
       space = space_from_snapshot(*saved);
     } catch (const std::invalid_argument& e) {
@@ -50,19 +57,41 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
   } else {
     space = build_space(config, info, run.space_note);
   }
-  run.evaluator = std::make_shared<ThreadEvaluator>(run.problem, threads);
-  auto evaluator = run.evaluator;
-  EvaluateFn evaluate = [evaluator](Batch& batch) { evaluator->evaluate(batch); };
+  EvaluateFn evaluate;
+  if (cluster::active()) {
+    evaluate = cluster::distributed_evaluator(
+        {config.resolved_toml, config.base_dir, log_path, threads});
+  } else {
+    run.evaluator = std::make_shared<ThreadEvaluator>(run.problem, threads);
+    auto evaluator = run.evaluator;
+    evaluate = [evaluator](Batch& batch) { evaluator->evaluate(batch); };
+  }
   if (config.algorithm == "map-elites") {
     run.search = std::make_unique<MapElitesSearch>(
         config.search, space, info.genome, info.fitness_lower,
         std::make_unique<VariationEmitter>(config.variation), evaluate, info.extra_names.size());
+  } else if (is_population_algorithm(config.algorithm)) {
+    try {
+      run.search = std::make_unique<PopulationSearch>(
+          parse_population_algorithm(config.algorithm), config.search, config.population,
+          config.variation, space, info.genome, info.fitness_lower, evaluate,
+          info.extra_names.size());
+    } catch (const std::invalid_argument& e) {
+      throw InputError(config.source + ": " + e.what());
+    }
   } else {
     throw InputError(config.source + ": key 'search.algorithm': '" + config.algorithm +
                      "' is not available in this build");
   }
   run.config = std::move(config);
   return run;
+}
+
+std::shared_ptr<const Problem> open_worker_problem(const cluster::WorkerSetup& setup) {
+  const std::string source = "rank " + std::to_string(cluster::rank()) + " [stored run file]";
+  RunConfig config = parse_run_text(setup.config_text, source, setup.base_dir);
+  config.problem.log_path = setup.log_path;
+  return open_problem(config.problem);
 }
 
 ArchiveSnapshot snapshot_of(const PreparedRun& run) {

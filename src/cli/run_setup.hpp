@@ -8,6 +8,7 @@
 
 #include "core/search.hpp"
 #include "core/snapshot.hpp"
+#include "eval/cluster.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "io/run_file.hpp"
 #include "problems/problem.hpp"
@@ -25,6 +26,9 @@ struct PreparedRun {
 // `saved` (when resuming) supplies the space stored in the archive instead of building it.
 PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string& log_path,
                         const ArchiveSnapshot* saved = nullptr);
+
+// Evaluator ranks under mpirun open the problem from the coordinator's resolved run file.
+std::shared_ptr<const Problem> open_worker_problem(const cluster::WorkerSetup& setup);
 
 // The snapshot of the run as it stands: root attributes, space, elites, history, resume state.
 ArchiveSnapshot snapshot_of(const PreparedRun& run);

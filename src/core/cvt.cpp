@@ -5,6 +5,10 @@
 #include <tbb/parallel_reduce.h>
 
 #include <algorithm>
+#include <atomic>
+#include <cstdio>
+#include <cstdlib>
+#include <limits>
 #include <cmath>
 #include <stdexcept>
 #include <string>
@@ -95,34 +99,150 @@ std::vector<double> lloyd_centroids(std::span<const double> points, std::size_t 
   const std::size_t n = points.size() / dims;
   check_cells(cells, static_cast<std::int64_t>(n), "lloyd");
   if (iterations < 0) throw std::invalid_argument("lloyd: iterations must be at least 0");
+  for (double v : points)
+    if (!std::isfinite(v)) throw std::invalid_argument("lloyd: a point is not finite");
 
   // Initial centroids: the first K points (uniform samples, so a uniform random start).
   const auto k = static_cast<std::size_t>(cells);
-  std::vector<double> centroids(points.begin(), points.begin() + static_cast<std::ptrdiff_t>(k * dims));
-  std::vector<std::uint32_t> cell_of(n, 0);
+  std::vector<double> centroids(points.begin(),
+                                points.begin() + static_cast<std::ptrdiff_t>(k * dims));
+  if (iterations == 0) return centroids;
 
+  // Hamerly's bounds (Hamerly, SIAM SDM 2010) skip most searches once centroids settle: per
+  // point an upper bound on the distance to its centroid and a lower bound on the distance to
+  // any other. A point that cannot skip scans its centroid's nearest neighbouring centroids in
+  // increasing distance and stops at the first one farther than twice its own distance, which
+  // no closer centroid can lie beyond (triangle inequality; Elkan, ICML 2003); only when the list
+  // runs out does it search the k-d tree. The assignment is the exact nearest centroid (lowest
+  // index on ties) as plain Lloyd would find; bounds only decide what may be skipped, with a
+  // relative margin far above rounding error. All per-point work depends on that point alone,
+  // so any split over threads gives the same result.
+  constexpr double kMargin = 1.0 - 1e-9;
+  const std::size_t m = std::min<std::size_t>(k - 1, std::getenv("CVT_M") ? std::atoi(std::getenv("CVT_M")) : std::min<std::size_t>(16 * dims, 160));
+  static const bool tight = true;
+  const bool lists_complete = m == k - 1;
+  std::vector<std::uint32_t> cell_of(n, 0), near_index(k * m);
+  std::vector<double> upper(n, 0.0), lower(n, 0.0), near_dist(k * m);
+  std::vector<double> previous, half_gap(k), drift(k);
+
+  std::atomic<std::size_t> searched{0}, scanned{0};
   for (int it = 0; it < iterations; ++it) {
     const NearestCentroid index(centroids, dims);
     const bool first = it == 0;
-    // Each point's cell depends on that point alone, so any split over threads gives the same
-    // assignment; the count of moved points is an integer sum, exact in any order.
+    if (!first) {
+      // Each centroid's m nearest other centroids, and half the distance to the nearest: a point
+      // closer than that to its own centroid cannot be nearer to another one.
+      tbb::parallel_for(
+          tbb::blocked_range<std::size_t>(0, k, 64),
+          [&](const tbb::blocked_range<std::size_t>& range) {
+            std::vector<std::uint32_t> idx(m + 1);
+            std::vector<double> sq(m + 1);
+            for (std::size_t c = range.begin(); c != range.end(); ++c) {
+              const std::size_t got = index.nearest_k(&centroids[c * dims], m + 1, idx.data(),
+                                                      sq.data());
+              std::size_t j = 0;
+              for (std::size_t e = 0; e < got && j < m; ++e) {
+                if (idx[e] == c) continue;
+                near_index[c * m + j] = idx[e];
+                near_dist[c * m + j] = std::sqrt(sq[e]);
+                ++j;
+              }
+              half_gap[c] =
+                  m > 0 ? 0.5 * near_dist[c * m] : std::numeric_limits<double>::infinity();
+            }
+          });
+    }
+    // The count of moved points is an integer sum, exact in any order.
     const std::size_t moved = tbb::parallel_reduce(
         tbb::blocked_range<std::size_t>(0, n, kGrain), std::size_t{0},
         [&](const tbb::blocked_range<std::size_t>& range, std::size_t count) {
           for (std::size_t i = range.begin(); i != range.end(); ++i) {
             const double* x = points.data() + i * dims;
-            // The previous cell is usually still nearest: its distance prunes the search.
-            const std::uint32_t c = first ? index.nearest(x) : index.nearest(x, cell_of[i]);
-            if (first || c != cell_of[i]) {
-              cell_of[i] = c;
+            const std::uint32_t a = cell_of[i];
+            if (first) {
+              const auto two = index.nearest_two(x, 0);
+              cell_of[i] = two.index;
+              upper[i] = std::sqrt(two.first);
+              lower[i] = std::sqrt(two.second);
               ++count;
+              continue;
             }
+            const double bound = std::max(half_gap[a], lower[i]) * kMargin;
+            if (upper[i] < bound) continue;
+            const double own = index.squared_distance(x, a);
+            const double u = std::sqrt(own);
+            upper[i] = u;
+            if (u < bound) continue;
+            ++scanned;
+            // Nearest and runner-up among the neighbour list, ordered by (distance, index).
+            std::uint32_t best_index = a;
+            double best = own, second = std::numeric_limits<double>::infinity();
+            double beyond = std::numeric_limits<double>::infinity();  // bound for the unscanned
+            bool settled = lists_complete;
+            const double reach = 2.0 * u / kMargin;
+            for (std::size_t j = 0; j < m; ++j) {
+              const double gap = near_dist[a * m + j];
+              if (gap > (tight ? std::max(reach, (u + std::sqrt(second)) / kMargin) : reach)) {
+                beyond = gap - u;
+                settled = true;
+                break;
+              }
+              const std::uint32_t c = near_index[a * m + j];
+              const double d = index.squared_distance(x, c);
+              if (d < best || (d == best && c < best_index)) {
+                second = best;
+                best = d;
+                best_index = c;
+              } else if (d < second) {
+                second = d;
+              }
+            }
+            if (!settled) {
+              ++searched;
+              const auto two = index.nearest_two(x, a);
+              best_index = two.index;
+              best = two.first;
+              second = two.second;
+            }
+            if (best_index != a) ++count;
+            cell_of[i] = best_index;
+            upper[i] = std::sqrt(best);
+            lower[i] = std::min(std::sqrt(second), beyond);
           }
           return count;
         },
         [](std::size_t a, std::size_t b) { return a + b; });
+    if (std::getenv("CVT_DEBUG")) std::fprintf(stderr, "it %d moved %zu scanned %zu searched %zu\n", it, moved, scanned.load(), searched.load());
+    searched = 0; scanned = 0;
     if (!first && moved == 0) break;  // converged: the centroids are the means already
+
+    previous = centroids;
     update_centroids(points, dims, cell_of, centroids);
+    // Move the bounds by how far the centroids moved (triangle inequality).
+    double max1 = 0.0, max2 = 0.0;
+    std::size_t arg1 = k;
+    for (std::size_t c = 0; c < k; ++c) {
+      double sum = 0.0;
+      for (std::size_t d = 0; d < dims; ++d) {
+        const double diff = centroids[c * dims + d] - previous[c * dims + d];
+        sum += diff * diff;
+      }
+      drift[c] = std::sqrt(sum);
+      if (drift[c] > max1) {
+        max2 = max1;
+        max1 = drift[c];
+        arg1 = c;
+      } else if (drift[c] > max2) {
+        max2 = drift[c];
+      }
+    }
+    tbb::parallel_for(tbb::blocked_range<std::size_t>(0, n, kGrain),
+                      [&](const tbb::blocked_range<std::size_t>& range) {
+                        for (std::size_t i = range.begin(); i != range.end(); ++i) {
+                          upper[i] += drift[cell_of[i]];
+                          lower[i] -= cell_of[i] == arg1 ? max2 : max1;
+                        }
+                      });
   }
   return centroids;
 }

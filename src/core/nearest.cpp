@@ -1,6 +1,11 @@
+#ifndef TESSERA_LEAF
+#define TESSERA_LEAF 10  // k-d tree leaf size (being tuned)
+#endif
 #include "core/nearest.hpp"
 
+#include <algorithm>
 #include <cmath>
+#include <utility>
 #include <limits>
 #include <nanoflann.hpp>
 #include <stdexcept>
@@ -48,6 +53,40 @@ struct LowestNearest {
   }
 };
 
+// Two-nearest result set ordered by (distance, index), same visiting rule as LowestNearest.
+struct LowestTwo {
+  using DistanceType = double;
+  using IndexType = std::uint32_t;
+  using CountType = std::size_t;
+
+  double best[2] = {std::numeric_limits<double>::infinity(),
+                    std::numeric_limits<double>::infinity()};
+  std::uint32_t index[2] = {std::numeric_limits<std::uint32_t>::max(),
+                            std::numeric_limits<std::uint32_t>::max()};
+
+  std::size_t size() const { return 2; }
+  bool full() const { return true; }
+  double worstDist() const {
+    return std::nextafter(best[1] * (1.0 + 1e-12), std::numeric_limits<double>::infinity());
+  }
+  static bool before(double d, std::uint32_t i, double d_other, std::uint32_t i_other) {
+    return d < d_other || (d == d_other && i < i_other);
+  }
+  bool addPoint(double dist, std::uint32_t idx) {
+    if (idx == index[0] || idx == index[1]) return true;  // the hint, met again in the tree
+    if (before(dist, idx, best[0], index[0])) {
+      best[1] = best[0];
+      index[1] = index[0];
+      best[0] = dist;
+      index[0] = idx;
+    } else if (before(dist, idx, best[1], index[1])) {
+      best[1] = dist;
+      index[1] = idx;
+    }
+    return true;
+  }
+};
+
 double squared(const double* a, const double* b, std::size_t dims) {
   // Same summation order as nanoflann's L2_Simple_Adaptor, so scan and tree agree bit for bit.
   double result = 0.0;
@@ -63,6 +102,8 @@ double squared(const double* a, const double* b, std::size_t dims) {
 struct NearestCentroid::Tree {
   virtual ~Tree() = default;
   virtual void search(const double* x, LowestNearest& result) const = 0;
+  virtual void search(const double* x, LowestTwo& result) const = 0;
+  virtual void search(const double* x, nanoflann::KNNResultSet<double, std::uint32_t>& result) const = 0;
 };
 
 namespace {
@@ -76,9 +117,15 @@ class TreeOf final : public NearestCentroid::Tree {
 
   TreeOf(CentroidCloud cloud)
       : cloud_(cloud),
-        index_(static_cast<int>(cloud.dims), cloud_, nanoflann::KDTreeSingleIndexAdaptorParams(8)) {}
+        index_(static_cast<int>(cloud.dims), cloud_, nanoflann::KDTreeSingleIndexAdaptorParams(TESSERA_LEAF)) {}
 
   void search(const double* x, LowestNearest& result) const override {
+    index_.findNeighbors(result, x, nanoflann::SearchParams());
+  }
+  void search(const double* x, LowestTwo& result) const override {
+    index_.findNeighbors(result, x, nanoflann::SearchParams());
+  }
+  void search(const double* x, nanoflann::KNNResultSet<double, std::uint32_t>& result) const override {
     index_.findNeighbors(result, x, nanoflann::SearchParams());
   }
 
@@ -150,6 +197,42 @@ std::uint32_t NearestCentroid::nearest(const double* x, std::uint32_t hint) cons
   result.index = hint;
   tree_->search(x, result);
   return result.index;
+}
+
+NearestCentroid::Two NearestCentroid::scan_two(const double* x) const {
+  LowestTwo result;
+  for (std::size_t k = 0; k < count_; ++k)
+    result.addPoint(squared(x, centroids_.data() + k * dims_, dims_), static_cast<std::uint32_t>(k));
+  return {result.index[0], result.best[0], result.best[1]};
+}
+
+NearestCentroid::Two NearestCentroid::nearest_two(const double* x, std::uint32_t hint) const {
+  if (!tree_) return scan_two(x);
+  LowestTwo result;
+  result.addPoint(squared_distance(x, hint), hint);
+  tree_->search(x, result);
+  return {result.index[0], result.best[0], result.best[1]};
+}
+
+std::size_t NearestCentroid::nearest_k(const double* x, std::size_t m, std::uint32_t* index,
+                                       double* squared_out) const {
+  m = std::min(m, count_);
+  if (m == 0) return 0;
+  if (!tree_) {
+    std::vector<std::pair<double, std::uint32_t>> all(count_);
+    for (std::size_t k = 0; k < count_; ++k)
+      all[k] = {squared(x, centroids_.data() + k * dims_, dims_), static_cast<std::uint32_t>(k)};
+    std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(m), all.end());
+    for (std::size_t j = 0; j < m; ++j) {
+      squared_out[j] = all[j].first;
+      index[j] = all[j].second;
+    }
+    return m;
+  }
+  nanoflann::KNNResultSet<double, std::uint32_t> result(m);
+  result.init(index, squared_out);
+  tree_->search(x, result);
+  return result.size();
 }
 
 }  // namespace tessera

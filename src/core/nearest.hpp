@@ -25,6 +25,20 @@ class NearestCentroid {
   // search from the start.
   std::uint32_t nearest(const double* x, std::uint32_t hint) const;
 
+  // The nearest centroid and the squared distances to it and to the runner-up (infinity when
+  // there is a single centroid). `hint` as above.
+  struct Two {
+    std::uint32_t index = 0;
+    double first = 0.0;
+    double second = 0.0;
+  };
+  Two nearest_two(const double* x, std::uint32_t hint) const;
+
+  // The min(m, K) nearest centroids in increasing distance (ties in any order): indices and
+  // squared distances written to the first entries of `index` and `squared`; returns how many.
+  std::size_t nearest_k(const double* x, std::size_t m, std::uint32_t* index,
+                        double* squared) const;
+
   // Squared distance as every search computes it (summed over dimensions in order).
   double squared_distance(const double* x, std::uint32_t centroid) const;
 
@@ -39,6 +53,7 @@ class NearestCentroid {
 
  private:
   std::uint32_t scan(const double* x) const;
+  Two scan_two(const double* x) const;
 
   std::vector<double> centroids_;
   std::size_t dims_ = 0;

@@ -114,7 +114,8 @@ struct Request {
   double* fitness = nullptr;
   double* descriptor = nullptr;
   unsigned char* valid = nullptr;
-  bool suspect = false;  // was held by a worker that crashed: retried once, alone
+  bool suspect = false;        // was held by a worker that crashed: retried once, alone
+  std::uint64_t line_start = 0;  // offset of its line in the worker's stdin stream
   Job* job = nullptr;
 };
 
@@ -125,6 +126,8 @@ struct Worker {
   std::string write_buffer;
   std::string read_buffer;
   std::deque<Request*> held;   // in the order sent: front is the oldest
+  std::uint64_t bytes_queued = 0;   // request bytes handed to write_buffer since the start
+  std::uint64_t bytes_written = 0;  // of which written into the pipe
   Clock::time_point progress;  // last answer, or when the worker became busy
 
   bool alive() const { return pid > 0; }
@@ -267,6 +270,7 @@ class WorkerPool {
     worker.write_buffer.clear();
     worker.read_buffer.clear();
     worker.held.clear();
+    worker.bytes_queued = worker.bytes_written = 0;
     return "";
   }
 
@@ -339,8 +343,11 @@ class WorkerPool {
     if (worker.held.empty()) {
       note_event("worker exited while idle and was restarted", detail);
     }
+    std::deque<Request*> unsent;
     for (Request* r : worker.held) {
-      if (r->suspect) {
+      if (r->line_start >= worker.bytes_written) {
+        unsent.push_back(r);  // not a byte reached the worker: resent as if never sent
+      } else if (r->suspect) {
         fail(r, "crash", detail);
       } else {
         r->suspect = true;
@@ -348,6 +355,8 @@ class WorkerPool {
       }
     }
     worker.held.clear();
+    for (auto it = unsent.rbegin(); it != unsent.rend(); ++it)
+      ((*it)->suspect ? suspects_ : queue_).push_front(*it);
     // A worker that dies again and again without answering anything (bad command, script
     // error) would otherwise be restarted forever.
     if (++deaths_since_answer_ > 2 * workers_.size() + 8) {
@@ -414,8 +423,11 @@ class WorkerPool {
     nlohmann::ordered_json line;
     line["id"] = r->id;
     line["genome"] = std::vector<double>(r->genome, r->genome + genome_size_);
+    r->line_start = worker.bytes_queued;
+    const std::size_t before = worker.write_buffer.size();
     worker.write_buffer += line.dump();
     worker.write_buffer += '\n';
+    worker.bytes_queued += worker.write_buffer.size() - before;
   }
 
   // Suspects go alone to idle workers, so a second crash proves who caused it; ordinary
@@ -444,6 +456,7 @@ class WorkerPool {
       const ssize_t n = ::write(worker.in, worker.write_buffer.data(), worker.write_buffer.size());
       if (n > 0) {
         worker.write_buffer.erase(0, static_cast<std::size_t>(n));
+        worker.bytes_written += static_cast<std::uint64_t>(n);
       } else if (n < 0 && errno == EINTR) {
         continue;
       } else if (n < 0 && (errno == EAGAIN || errno == EWOULDBLOCK)) {

@@ -1,10 +1,17 @@
+// Written against HDF5's C interface (from the same libhdf5-dev as the C++ one) with handles of
+// our own: the C++ classes print to std::cerr from their destructors when a close fails during
+// unwinding, which would break the one-line error rule.
 #include "io/archive_file.hpp"
 
-#include <H5Cpp.h>
 #include <fcntl.h>
+#include <hdf5.h>
 #include <unistd.h>
 
+#include <tbb/parallel_for.h>
+
 #include <algorithm>
+#include <atomic>
+#include <bit>
 #include <cerrno>
 #include <cstdint>
 #include <cstdio>
@@ -18,6 +25,7 @@
 
 #include "core/errors.hpp"
 #include "core/space.hpp"
+#include "io/chunk_codec.hpp"
 #include "io/snapshot_check.hpp"
 
 namespace tessera {
@@ -33,112 +41,225 @@ std::mutex& hdf5_mutex() {
 // doubles well enough while keeping the writer close to disk speed (see bench_archive_io).
 constexpr std::uint64_t kChunkBytes = 512 * 1024;
 constexpr unsigned kDeflateLevel = 1;
+// Chunks compressed or expanded together on all threads before HDF5 moves them (32 MiB).
+constexpr std::uint64_t kChunkBatch = 64;
+// Largest chunk the reader expands itself; others (never written by tessera) go through HDF5.
+constexpr std::uint64_t kMaxDirectChunkBytes = std::uint64_t{1} << 28;
 
 // Deflate cannot expand data by more than 1032:1 (zlib technical details, zlib.net, from memory),
 // so a dataset stored in S bytes with the filters we accept holds at most about 1032 * S bytes.
 constexpr std::uint64_t kMaxInflation = 1100;
 
+// A failed HDF5 call; the message is the deepest entry of HDF5's error stack (the cause).
+class Hdf5Failure : public std::runtime_error {
+ public:
+  explicit Hdf5Failure(const char* call) : std::runtime_error(reason(call)) {}
+
+ private:
+  static std::string reason(const char* call) {
+    std::string deepest;
+    H5Ewalk2(
+        H5E_DEFAULT, H5E_WALK_DOWNWARD,
+        [](unsigned, const H5E_error2_t* err, void* out) -> herr_t {
+          if (err->desc && *err->desc) *static_cast<std::string*>(out) = err->desc;
+          return 0;
+        },
+        &deepest);
+    std::string message = std::string(call) + " failed";
+    if (!deepest.empty()) message += ": " + deepest;
+    std::replace(message.begin(), message.end(), '\n', ' ');
+    return message;
+  }
+};
+
+template <class T>
+T ok(T result, const char* call) {
+  if (result < 0) throw Hdf5Failure(call);
+  return result;
+}
+
+// Owns one HDF5 identifier and closes it, silently, when it goes out of scope.
+class Handle {
+ public:
+  using Closer = herr_t (*)(hid_t);
+  Handle() = default;
+  Handle(hid_t id, Closer closer, const char* call) : id_(ok(id, call)), closer_(closer) {}
+  Handle(Handle&& other) noexcept : id_(other.id_), closer_(other.closer_) { other.id_ = -1; }
+  Handle& operator=(Handle&& other) noexcept {
+    std::swap(id_, other.id_);
+    std::swap(closer_, other.closer_);
+    return *this;
+  }
+  Handle(const Handle&) = delete;
+  Handle& operator=(const Handle&) = delete;
+  ~Handle() {
+    if (id_ >= 0) closer_(id_);
+  }
+  hid_t get() const { return id_; }
+  // Closes now and reports failure (the last metadata is written when a file closes).
+  void close(const char* call) {
+    const hid_t id = id_;
+    id_ = -1;
+    ok(closer_(id), call);
+  }
+
+ private:
+  hid_t id_ = -1;
+  Closer closer_ = nullptr;
+};
+
+Handle group_handle(hid_t id, const char* call) { return Handle(id, H5Gclose, call); }
+Handle dataset_handle(hid_t id, const char* call) { return Handle(id, H5Dclose, call); }
+Handle space_handle(hid_t id, const char* call) { return Handle(id, H5Sclose, call); }
+Handle type_handle(hid_t id, const char* call) { return Handle(id, H5Tclose, call); }
+Handle attr_handle(hid_t id, const char* call) { return Handle(id, H5Aclose, call); }
+Handle plist_handle(hid_t id, const char* call) { return Handle(id, H5Pclose, call); }
+
 template <class T>
 struct Hdf5Types;
 template <>
 struct Hdf5Types<double> {
-  static const H5::PredType& file() { return H5::PredType::IEEE_F64LE; }
-  static const H5::PredType& memory() { return H5::PredType::NATIVE_DOUBLE; }
+  static hid_t file() { return H5T_IEEE_F64LE; }
+  static hid_t memory() { return H5T_NATIVE_DOUBLE; }
   static constexpr H5T_class_t kClass = H5T_FLOAT;
 };
 template <>
 struct Hdf5Types<std::int64_t> {
-  static const H5::PredType& file() { return H5::PredType::STD_I64LE; }
-  static const H5::PredType& memory() { return H5::PredType::NATIVE_INT64; }
+  static hid_t file() { return H5T_STD_I64LE; }
+  static hid_t memory() { return H5T_NATIVE_INT64; }
   static constexpr H5T_class_t kClass = H5T_INTEGER;
 };
 template <>
 struct Hdf5Types<std::uint64_t> {
-  static const H5::PredType& file() { return H5::PredType::STD_U64LE; }
-  static const H5::PredType& memory() { return H5::PredType::NATIVE_UINT64; }
+  static hid_t file() { return H5T_STD_U64LE; }
+  static hid_t memory() { return H5T_NATIVE_UINT64; }
   static constexpr H5T_class_t kClass = H5T_INTEGER;
 };
 
-H5::StrType utf8_string_type() {
-  H5::StrType t(H5::PredType::C_S1, H5T_VARIABLE);
-  t.setCset(H5T_CSET_UTF8);
+Handle utf8_string_type() {
+  Handle t = type_handle(H5Tcopy(H5T_C_S1), "H5Tcopy");
+  ok(H5Tset_size(t.get(), H5T_VARIABLE), "H5Tset_size");
+  ok(H5Tset_cset(t.get(), H5T_CSET_UTF8), "H5Tset_cset");
   return t;
 }
 
-H5::FileAccPropList access_properties() {
-  H5::FileAccPropList fapl;
-  // Close the file for real when the handle goes, and do not depend on the file system
+Handle access_properties() {
+  Handle fapl = plist_handle(H5Pcreate(H5P_FILE_ACCESS), "H5Pcreate");
+  // Close the file for real when its handle goes, and do not depend on the file system
   // supporting locks: archives are replaced by rename, never written in place.
-  fapl.setFcloseDegree(H5F_CLOSE_STRONG);
-  H5Pset_file_locking(fapl.getId(), false, true);
+  ok(H5Pset_fclose_degree(fapl.get(), H5F_CLOSE_STRONG), "H5Pset_fclose_degree");
+  ok(H5Pset_file_locking(fapl.get(), false, true), "H5Pset_file_locking");
   return fapl;
-}
-
-// The deepest message on HDF5's error stack (the actual cause), on one line.
-std::string hdf5_reason(const H5::Exception& e) {
-  std::string deepest;
-  H5Ewalk2(
-      H5E_DEFAULT, H5E_WALK_DOWNWARD,
-      [](unsigned, const H5E_error2_t* err, void* out) -> herr_t {
-        if (err->desc && *err->desc) *static_cast<std::string*>(out) = err->desc;
-        return 0;
-      },
-      &deepest);
-  if (deepest.empty()) deepest = e.getDetailMsg();
-  std::replace(deepest.begin(), deepest.end(), '\n', ' ');
-  return deepest;
 }
 
 // ---------------------------------------------------------------------------------- writing
 
-void write_string_attr(H5::H5Object& obj, const char* name, const std::string& value) {
-  const H5::StrType t = utf8_string_type();
-  H5::Attribute a = obj.createAttribute(name, t, H5::DataSpace(H5S_SCALAR));
-  a.write(t, value);
+void write_string_attr(hid_t obj, const char* name, const std::string& value) {
+  const Handle type = utf8_string_type();
+  const Handle space = space_handle(H5Screate(H5S_SCALAR), "H5Screate");
+  const Handle attr = attr_handle(
+      H5Acreate2(obj, name, type.get(), space.get(), H5P_DEFAULT, H5P_DEFAULT), "H5Acreate2");
+  const char* text = value.c_str();
+  ok(H5Awrite(attr.get(), type.get(), &text), "H5Awrite");
 }
 
 template <class T>
-void write_scalar_attr(H5::H5Object& obj, const char* name, T value) {
-  H5::Attribute a = obj.createAttribute(name, Hdf5Types<T>::file(), H5::DataSpace(H5S_SCALAR));
-  a.write(Hdf5Types<T>::memory(), &value);
+void write_scalar_attr(hid_t obj, const char* name, T value) {
+  const Handle space = space_handle(H5Screate(H5S_SCALAR), "H5Screate");
+  const Handle attr = attr_handle(
+      H5Acreate2(obj, name, Hdf5Types<T>::file(), space.get(), H5P_DEFAULT, H5P_DEFAULT),
+      "H5Acreate2");
+  ok(H5Awrite(attr.get(), Hdf5Types<T>::memory(), &value), "H5Awrite");
+}
+
+Handle create_group(hid_t parent, const char* name) {
+  return group_handle(H5Gcreate2(parent, name, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT),
+                      "H5Gcreate2");
+}
+
+// Rows per chunk: about kChunkBytes, whole rows, never more rows than the dataset has.
+std::uint64_t chunk_rows_for(std::uint64_t rows, std::uint64_t row_bytes) {
+  return std::clamp<std::uint64_t>(kChunkBytes / row_bytes, 1, std::max<std::uint64_t>(rows, 1));
 }
 
 // A chunked, compressed dataset of `rows` rows (x `cols` columns when cols > 0). The first
 // dimension is unlimited so that zero rows is a valid, readable dataset.
-H5::DataSet create_dataset(H5::Group& parent, const std::string& name, const H5::DataType& type,
-                           std::size_t element_bytes, std::uint64_t rows, std::uint64_t cols) {
+Handle create_dataset(hid_t parent, const std::string& name, hid_t type, std::size_t element_bytes,
+                      std::uint64_t rows, std::uint64_t cols) {
   const int rank = cols == 0 ? 1 : 2;
   const hsize_t dims[2] = {rows, cols};
   const hsize_t max_dims[2] = {H5S_UNLIMITED, cols};
   const std::uint64_t row_bytes = element_bytes * std::max<std::uint64_t>(cols, 1);
-  const std::uint64_t chunk_rows =
-      std::clamp<std::uint64_t>(kChunkBytes / row_bytes, 1, std::max<std::uint64_t>(rows, 1));
-  const hsize_t chunk[2] = {chunk_rows, cols};
-  H5::DSetCreatPropList props;
-  props.setChunk(rank, chunk);
-  props.setShuffle();
-  props.setDeflate(kDeflateLevel);
-  return parent.createDataSet(name, type, H5::DataSpace(rank, dims, max_dims), props);
+  const hsize_t chunk[2] = {chunk_rows_for(rows, row_bytes), cols};
+  const Handle props = plist_handle(H5Pcreate(H5P_DATASET_CREATE), "H5Pcreate");
+  ok(H5Pset_chunk(props.get(), rank, chunk), "H5Pset_chunk");
+  ok(H5Pset_shuffle(props.get()), "H5Pset_shuffle");
+  ok(H5Pset_deflate(props.get(), kDeflateLevel), "H5Pset_deflate");
+  const Handle space = space_handle(H5Screate_simple(rank, dims, max_dims), "H5Screate_simple");
+  return dataset_handle(
+      H5Dcreate2(parent, name.c_str(), type, space.get(), H5P_DEFAULT, props.get(), H5P_DEFAULT),
+      "H5Dcreate2");
+}
+
+// Compresses the chunks of `rows` rows on all threads, a batch at a time (bounded memory), and
+// hands the finished chunks to HDF5. The bytes are the same as HDF5's own filters would write.
+void write_chunks(hid_t ds, const unsigned char* data, std::uint64_t rows,
+                  std::uint64_t row_bytes, std::size_t element_size) {
+  const std::uint64_t chunk_rows = chunk_rows_for(rows, row_bytes);
+  const std::uint64_t chunk_bytes = chunk_rows * row_bytes;
+  const std::uint64_t chunks = (rows + chunk_rows - 1) / chunk_rows;
+  const std::uint64_t batch = kChunkBatch;
+  std::vector<std::vector<unsigned char>> encoded(std::min(batch, chunks));
+  for (std::uint64_t first = 0; first < chunks; first += batch) {
+    const std::uint64_t count = std::min(batch, chunks - first);
+    tbb::parallel_for(std::uint64_t{0}, count, [&](std::uint64_t k) {
+      const std::uint64_t row = (first + k) * chunk_rows;
+      const std::uint64_t have = std::min(chunk_rows, rows - row) * row_bytes;
+      const unsigned char* src = data + row * row_bytes;
+      if (have == chunk_bytes) {
+        encoded[k] = encode_chunk(src, chunk_bytes, element_size, kDeflateLevel);
+      } else {
+        // The last chunk is stored whole; HDF5 ignores the part past the end of the data.
+        std::vector<unsigned char> padded(chunk_bytes, 0);
+        std::memcpy(padded.data(), src, have);
+        encoded[k] = encode_chunk(padded.data(), chunk_bytes, element_size, kDeflateLevel);
+      }
+    });
+    for (std::uint64_t k = 0; k < count; ++k) {
+      const hsize_t offset[2] = {(first + k) * chunk_rows, 0};
+      ok(H5Dwrite_chunk(ds, H5P_DEFAULT, 0, offset, encoded[k].size(), encoded[k].data()),
+         "H5Dwrite_chunk");
+    }
+  }
 }
 
 template <class T>
-void write_dataset(H5::Group& parent, const std::string& name, const std::vector<T>& data,
+void write_dataset(hid_t parent, const std::string& name, const std::vector<T>& data,
                    std::uint64_t cols = 0) {
   const std::uint64_t rows = cols == 0 ? data.size() : data.size() / cols;
-  H5::DataSet ds = create_dataset(parent, name, Hdf5Types<T>::file(), sizeof(T), rows, cols);
-  if (rows > 0) ds.write(data.data(), Hdf5Types<T>::memory());
+  const std::uint64_t row_bytes = sizeof(T) * std::max<std::uint64_t>(cols, 1);
+  const Handle ds = create_dataset(parent, name, Hdf5Types<T>::file(), sizeof(T), rows, cols);
+  if (rows == 0) return;
+  // Little-endian memory is the file's byte order, so memory bytes can go into chunks as is.
+  if (std::endian::native == std::endian::little && rows > chunk_rows_for(rows, row_bytes)) {
+    write_chunks(ds.get(), reinterpret_cast<const unsigned char*>(data.data()), rows, row_bytes,
+                 sizeof(T));
+  } else {
+    ok(H5Dwrite(ds.get(), Hdf5Types<T>::memory(), H5S_ALL, H5S_ALL, H5P_DEFAULT, data.data()),
+       "H5Dwrite");
+  }
 }
 
-void write_strings(H5::Group& parent, const std::string& name,
-                   const std::vector<std::string>& values) {
-  const H5::StrType t = utf8_string_type();
-  H5::DataSet ds = create_dataset(parent, name, t, sizeof(char*), values.size(), 0);
+void write_strings(hid_t parent, const std::string& name, const std::vector<std::string>& values) {
+  const Handle type = utf8_string_type();
+  const Handle ds = create_dataset(parent, name, type.get(), sizeof(char*), values.size(), 0);
   std::vector<const char*> pointers;
   for (const auto& v : values) pointers.push_back(v.c_str());
-  if (!pointers.empty()) ds.write(pointers.data(), t);
+  if (!pointers.empty())
+    ok(H5Dwrite(ds.get(), type.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, pointers.data()), "H5Dwrite");
 }
 
-void write_contents(H5::H5File& file, const ArchiveSnapshot& s) {
+void write_contents(hid_t file, const ArchiveSnapshot& s) {
   write_string_attr(file, "format", "tessera-archive");
   write_scalar_attr<std::int64_t>(file, "format_version", kArchiveFormatVersion);
   write_string_attr(file, "problem", s.problem);
@@ -148,49 +269,53 @@ void write_contents(H5::H5File& file, const ArchiveSnapshot& s) {
   write_string_attr(file, "tool_version", s.tool_version);
 
   const std::uint64_t d = s.descriptor_size();
-  H5::Group space = file.createGroup("/space");
-  write_string_attr(space, "kind", s.space_kind);
-  write_dataset(space, "lower", s.descriptor_bounds.lower);
-  write_dataset(space, "upper", s.descriptor_bounds.upper);
-  if (s.space_kind == "grid") write_dataset(space, "resolution", s.resolution);
-  if (s.space_kind == "cvt") write_dataset(space, "centroids", s.centroids, d);
-  write_strings(space, "names", s.descriptor_names);
-
-  H5::Group genome = file.createGroup("/genome");
-  write_dataset(genome, "lower", s.genome_bounds.lower);
-  write_dataset(genome, "upper", s.genome_bounds.upper);
-
-  H5::Group elites = file.createGroup("/elites");
-  write_dataset(elites, "cell", s.cell);
-  write_dataset(elites, "genome", s.genome, s.genome_size());
-  write_dataset(elites, "descriptor", s.descriptor, d);
-  write_dataset(elites, "fitness", s.fitness);
-  write_dataset(elites, "birth", s.birth);
-
-  H5::Group history = file.createGroup("/history");
-  write_scalar_attr<double>(history, "qd_offset", s.qd_offset);
-  std::vector<std::uint64_t> evaluations;
-  std::vector<double> coverage, qd_score, max_fitness;
-  for (const HistoryRow& row : s.history) {
-    evaluations.push_back(row.evaluations);
-    coverage.push_back(row.coverage);
-    qd_score.push_back(row.qd_score);
-    max_fitness.push_back(row.max_fitness);
+  {
+    const Handle space = create_group(file, "space");
+    write_string_attr(space.get(), "kind", s.space_kind);
+    write_dataset(space.get(), "lower", s.descriptor_bounds.lower);
+    write_dataset(space.get(), "upper", s.descriptor_bounds.upper);
+    if (s.space_kind == "grid") write_dataset(space.get(), "resolution", s.resolution);
+    if (s.space_kind == "cvt") write_dataset(space.get(), "centroids", s.centroids, d);
+    write_strings(space.get(), "names", s.descriptor_names);
   }
-  write_dataset(history, "evaluations", evaluations);
-  write_dataset(history, "coverage", coverage);
-  write_dataset(history, "qd_score", qd_score);
-  write_dataset(history, "max_fitness", max_fitness);
-
+  {
+    const Handle genome = create_group(file, "genome");
+    write_dataset(genome.get(), "lower", s.genome_bounds.lower);
+    write_dataset(genome.get(), "upper", s.genome_bounds.upper);
+  }
+  {
+    const Handle elites = create_group(file, "elites");
+    write_dataset(elites.get(), "cell", s.cell);
+    write_dataset(elites.get(), "genome", s.genome, s.genome_size());
+    write_dataset(elites.get(), "descriptor", s.descriptor, d);
+    write_dataset(elites.get(), "fitness", s.fitness);
+    write_dataset(elites.get(), "birth", s.birth);
+  }
+  {
+    const Handle history = create_group(file, "history");
+    write_scalar_attr<double>(history.get(), "qd_offset", s.qd_offset);
+    std::vector<std::uint64_t> evaluations;
+    std::vector<double> coverage, qd_score, max_fitness;
+    for (const HistoryRow& row : s.history) {
+      evaluations.push_back(row.evaluations);
+      coverage.push_back(row.coverage);
+      qd_score.push_back(row.qd_score);
+      max_fitness.push_back(row.max_fitness);
+    }
+    write_dataset(history.get(), "evaluations", evaluations);
+    write_dataset(history.get(), "coverage", coverage);
+    write_dataset(history.get(), "qd_score", qd_score);
+    write_dataset(history.get(), "max_fitness", max_fitness);
+  }
   if (s.resume) {
-    H5::Group resume = file.createGroup("/resume");
-    write_string_attr(resume, "algorithm", s.resume->algorithm);
-    write_scalar_attr<std::uint64_t>(resume, "next_batch", s.resume->next_batch);
-    H5::Group counters = resume.createGroup("counters");
+    const Handle resume = create_group(file, "resume");
+    write_string_attr(resume.get(), "algorithm", s.resume->algorithm);
+    write_scalar_attr<std::uint64_t>(resume.get(), "next_batch", s.resume->next_batch);
+    const Handle counters = create_group(resume.get(), "counters");
     for (const auto& [name, value] : s.resume->counters)
-      write_scalar_attr<std::uint64_t>(counters, name.c_str(), value);
-    H5::Group arrays = resume.createGroup("arrays");
-    for (const auto& [name, values] : s.resume->arrays) write_dataset(arrays, name, values);
+      write_scalar_attr<std::uint64_t>(counters.get(), name.c_str(), value);
+    const Handle arrays = create_group(resume.get(), "arrays");
+    for (const auto& [name, values] : s.resume->arrays) write_dataset(arrays.get(), name, values);
   }
 }
 
@@ -198,38 +323,47 @@ std::system_error errno_error(const std::string& what) {
   return std::system_error(errno, std::generic_category(), what);
 }
 
-void sync_path(const std::filesystem::path& p, bool directory) {
-  const int fd = ::open(p.c_str(), (directory ? O_DIRECTORY : 0) | O_RDONLY | O_CLOEXEC);
-  if (fd < 0) throw errno_error("open " + p.string());
+void sync_file(const std::filesystem::path& p) {
+  const int fd = ::open(p.c_str(), O_RDONLY | O_CLOEXEC);
+  if (fd < 0) throw errno_error("cannot open " + p.string());
   const int rc = ::fsync(fd);
   const int saved = errno;
   ::close(fd);
-  // Some file systems cannot sync a directory; the rename has happened all the same.
-  if (rc != 0 && !(directory && (saved == EINVAL || saved == ENOTSUP)))
-    throw std::system_error(saved, std::generic_category(), "fsync " + p.string());
+  if (rc != 0) throw std::system_error(saved, std::generic_category(), "fsync " + p.string());
+}
+
+// Makes the rename itself durable. Best effort: some file systems cannot sync a folder, and the
+// new archive is already in place either way.
+void sync_folder(const std::filesystem::path& p) {
+  const int fd = ::open(p.c_str(), O_DIRECTORY | O_RDONLY | O_CLOEXEC);
+  if (fd < 0) return;
+  (void)::fsync(fd);
+  ::close(fd);
 }
 
 // ---------------------------------------------------------------------------------- reading
 
 struct Dataset {
   std::string name;
-  H5::DataSet handle;
+  Handle handle;
   hsize_t dims[2] = {0, 0};
   std::uint64_t elements = 0;
 };
+
+std::string describe_class(H5T_class_t c) {
+  return c == H5T_FLOAT ? "floating-point numbers" : c == H5T_INTEGER ? "integers" : "strings";
+}
 
 class Reader {
  public:
   explicit Reader(std::string path) : path_(std::move(path)) {}
 
   [[noreturn]] void fail(const std::string& fault) const { throw InputError(path_ + ": " + fault); }
-  const std::string& context() const { return context_; }
 
   ArchiveSnapshot read();
 
  private:
   void check_file_on_disk();
-  void open();
   void read_root(ArchiveSnapshot& s);
   void read_space(ArchiveSnapshot& s);
   void read_genome(ArchiveSnapshot& s);
@@ -238,26 +372,25 @@ class Reader {
   void read_resume(ArchiveSnapshot& s);
 
   bool exists(const std::string& name);
-  H5::Group group(const std::string& name);
+  Handle group(const std::string& name);
   Dataset dataset(const std::string& name, H5T_class_t type_class, int rank);
   template <class T>
   std::vector<T> values(Dataset& ds);
-  template <class T>
-  std::vector<T> read_vector(const std::string& name) {
-    Dataset ds = dataset(name, Hdf5Types<T>::kClass, 1);
-    return values<T>(ds);
-  }
+  // Reads a dataset written by tessera's parallel writer on all threads; false when the dataset
+  // is laid out otherwise (the caller then uses H5Dread).
+  bool read_chunks(const Dataset& ds, hid_t props, unsigned char* out, std::size_t element_size,
+                   hid_t memory_type);
   std::vector<std::string> strings(const std::string& name, std::uint64_t expected);
 
-  H5::Attribute attribute(H5::H5Object& obj, const std::string& where, const char* name);
-  std::string string_attr(H5::H5Object& obj, const std::string& where, const char* name);
-  std::int64_t int_attr(H5::H5Object& obj, const std::string& where, const char* name);
-  std::uint64_t uint_attr(H5::H5Object& obj, const std::string& where, const char* name);
-  double float_attr(H5::H5Object& obj, const std::string& where, const char* name);
+  Handle attribute(hid_t obj, const std::string& where, const char* name, H5T_class_t type_class);
+  std::string string_attr(hid_t obj, const std::string& where, const char* name);
+  std::int64_t int_attr(hid_t obj, const std::string& where, const char* name);
+  std::uint64_t uint_attr(hid_t obj, const std::string& where, const char* name);
+  double float_attr(hid_t obj, const std::string& where, const char* name);
 
   std::string path_;
   std::uint64_t file_size_ = 0;
-  H5::H5File file_;
+  Handle file_;
   std::string context_ = "opening the file";
 };
 
@@ -275,56 +408,44 @@ void Reader::check_file_on_disk() {
   if (H5Fis_hdf5(path_.c_str()) <= 0) fail("not an HDF5 file");
 }
 
-void Reader::open() {
-  try {
-    file_ = H5::H5File(path_, H5F_ACC_RDONLY, H5::FileCreatPropList::DEFAULT, access_properties());
-  } catch (const H5::Exception&) {
-    fail("truncated or damaged HDF5 file (it cannot be opened)");
-  }
-}
-
 bool Reader::exists(const std::string& name) {
   // H5Lexists fails rather than answering "no" when a parent group is missing: test each step.
-  std::string prefix;
   std::size_t start = 1;
   while (start <= name.size()) {
     const std::size_t end = std::min(name.find('/', start), name.size());
-    prefix = name.substr(0, end);
-    const htri_t found = H5Lexists(file_.getId(), prefix.c_str(), H5P_DEFAULT);
-    if (found < 0) throw H5::Exception("H5Lexists", "link lookup failed");
-    if (found == 0) return false;
+    const std::string prefix = name.substr(0, end);
+    if (ok(H5Lexists(file_.get(), prefix.c_str(), H5P_DEFAULT), "H5Lexists") == 0) return false;
     start = end + 1;
   }
   return true;
 }
 
-H5::Group Reader::group(const std::string& name) {
+Handle Reader::group(const std::string& name) {
   context_ = name;
   if (!exists(name)) fail("missing group " + name);
-  if (file_.childObjType(name) != H5O_TYPE_GROUP) fail(name + " is not a group");
-  return file_.openGroup(name);
+  Handle object(H5Oopen(file_.get(), name.c_str(), H5P_DEFAULT), H5Oclose, "H5Oopen");
+  if (H5Iget_type(object.get()) != H5I_GROUP) fail(name + " is not a group");
+  return object;
 }
 
 Dataset Reader::dataset(const std::string& name, H5T_class_t type_class, int rank) {
   context_ = name;
   if (!exists(name)) fail("missing dataset " + name);
-  if (file_.childObjType(name) != H5O_TYPE_DATASET) fail(name + " is not a dataset");
   Dataset ds;
   ds.name = name;
-  ds.handle = file_.openDataSet(name);
-  if (ds.handle.getTypeClass() != type_class) {
-    const char* wanted = type_class == H5T_FLOAT     ? "floating-point numbers"
-                         : type_class == H5T_INTEGER ? "integers"
-                                                     : "strings";
-    fail(name + " does not hold " + wanted);
-  }
-  const H5::DataSpace space = ds.handle.getSpace();
-  if (!space.isSimple() || space.getSimpleExtentNdims() != rank)
+  ds.handle = Handle(H5Oopen(file_.get(), name.c_str(), H5P_DEFAULT), H5Oclose, "H5Oopen");
+  if (H5Iget_type(ds.handle.get()) != H5I_DATASET) fail(name + " is not a dataset");
+  const Handle type = type_handle(H5Dget_type(ds.handle.get()), "H5Dget_type");
+  if (H5Tget_class(type.get()) != type_class)
+    fail(name + " does not hold " + describe_class(type_class));
+  const Handle space = space_handle(H5Dget_space(ds.handle.get()), "H5Dget_space");
+  if (H5Sget_simple_extent_type(space.get()) != H5S_SIMPLE ||
+      H5Sget_simple_extent_ndims(space.get()) != rank)
     fail(name + " is not a " + std::to_string(rank) + "-dimensional dataset");
-  space.getSimpleExtentDims(ds.dims);
+  ok(H5Sget_simple_extent_dims(space.get(), ds.dims, nullptr), "H5Sget_simple_extent_dims");
   ds.elements = ds.dims[0];
   if (rank == 2) {
-    // Checked product: dims come straight from the file.
+    // Checked product: the dimensions come straight from the file.
     if (ds.dims[1] != 0 && ds.dims[0] > kMaxArrayElements / ds.dims[1])
       fail(name + " claims " + std::to_string(ds.dims[0]) + " x " + std::to_string(ds.dims[1]) +
            " values, more than tessera reads");
@@ -339,27 +460,93 @@ template <class T>
 std::vector<T> Reader::values(Dataset& ds) {
   context_ = ds.name;
   if (ds.elements == 0) return {};
-  // Only filters whose expansion is bounded: the stored size then bounds what we allocate.
-  const H5::DSetCreatPropList props = ds.handle.getCreatePlist();
-  for (int i = 0; i < props.getNfilters(); ++i) {
-    unsigned flags = 0;
-    std::size_t nelements = 0;
-    unsigned config = 0;
+  // Only filters whose expansion is bounded: then the stored size bounds what we allocate.
+  const Handle props = plist_handle(H5Dget_create_plist(ds.handle.get()), "H5Dget_create_plist");
+  const int filters = ok(H5Pget_nfilters(props.get()), "H5Pget_nfilters");
+  for (int i = 0; i < filters; ++i) {
+    unsigned flags = 0, config = 0, values[8];
+    std::size_t count = 8;  // in: room in `values`; out: how many the filter has
     char filter_name[64];
-    const H5Z_filter_t id = props.getFilter(i, flags, nelements, nullptr, sizeof filter_name,
-                                            filter_name, config);
+    const H5Z_filter_t id = H5Pget_filter2(props.get(), static_cast<unsigned>(i), &flags, &count,
+                                           values, sizeof filter_name, filter_name, &config);
     if (id != H5Z_FILTER_DEFLATE && id != H5Z_FILTER_SHUFFLE && id != H5Z_FILTER_FLETCHER32)
       fail(ds.name + " uses HDF5 filter " + std::to_string(id) + ", which tessera does not read");
   }
-  const std::uint64_t stored = ds.handle.getStorageSize();
+  const std::uint64_t stored = H5Dget_storage_size(ds.handle.get());
   const std::uint64_t logical = ds.elements * sizeof(T);
   if (stored == 0) fail(ds.name + " has no stored data");
   if (stored > file_size_ || logical / kMaxInflation > stored)
     fail(ds.name + " claims " + std::to_string(ds.elements) + " values but stores only " +
          std::to_string(stored) + " bytes");
   std::vector<T> out(ds.elements);
-  ds.handle.read(out.data(), Hdf5Types<T>::memory());
+  if (!read_chunks(ds, props.get(), reinterpret_cast<unsigned char*>(out.data()), sizeof(T),
+                   Hdf5Types<T>::memory()))
+    ok(H5Dread(ds.handle.get(), Hdf5Types<T>::memory(), H5S_ALL, H5S_ALL, H5P_DEFAULT, out.data()),
+       "H5Dread");
   return out;
+}
+
+bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
+                         std::size_t element_size, hid_t memory_type) {
+  // Only the layout tessera writes: whole-row chunks through shuffle then deflate, in the
+  // memory's own byte order. Anything else goes through HDF5's ordinary read.
+  if (std::endian::native != std::endian::little) return false;
+  if (H5Pget_layout(props) != H5D_CHUNKED || H5Pget_nfilters(props) != 2) return false;
+  const auto filter = [&](unsigned index) {
+    unsigned flags = 0, config = 0, values[8];
+    std::size_t count = 8;  // in: room in `values`; out: how many the filter has
+    return H5Pget_filter2(props, index, &flags, &count, values, 0, nullptr, &config);
+  };
+  if (filter(0) != H5Z_FILTER_SHUFFLE || filter(1) != H5Z_FILTER_DEFLATE) return false;
+  const Handle type = type_handle(H5Dget_type(ds.handle.get()), "H5Dget_type");
+  if (ok(H5Tequal(type.get(), memory_type), "H5Tequal") <= 0) return false;
+  const Handle space = space_handle(H5Dget_space(ds.handle.get()), "H5Dget_space");
+  const int rank = H5Sget_simple_extent_ndims(space.get());
+  hsize_t chunk[2] = {0, 0};
+  if (H5Pget_chunk(props, 2, chunk) != rank) return false;
+  if (rank == 2 && chunk[1] != ds.dims[1]) return false;
+  const std::uint64_t rows = ds.dims[0];
+  const std::uint64_t row_bytes = element_size * (rank == 2 ? ds.dims[1] : 1);
+  const std::uint64_t chunk_rows = chunk[0];
+  if (chunk_rows == 0 || row_bytes == 0 || chunk_rows > kMaxDirectChunkBytes / row_bytes)
+    return false;
+  const std::uint64_t chunk_bytes = chunk_rows * row_bytes;
+  const std::uint64_t chunks = (rows + chunk_rows - 1) / chunk_rows;
+
+  std::vector<std::vector<unsigned char>> stored(std::min(kChunkBatch, chunks));
+  for (std::uint64_t first = 0; first < chunks; first += kChunkBatch) {
+    const std::uint64_t n = std::min(kChunkBatch, chunks - first);
+    for (std::uint64_t k = 0; k < n; ++k) {
+      const hsize_t offset[2] = {(first + k) * chunk_rows, 0};
+      hsize_t size = 0;
+      // A chunk never written (fill values) or stored unusually: let HDF5 read the dataset.
+      if (H5Dget_chunk_storage_size(ds.handle.get(), offset, &size) < 0 || size == 0) return false;
+      if (size > file_size_) fail(ds.name + " has a chunk larger than the file");
+      stored[k].resize(size);
+      std::uint32_t mask = 0;
+      ok(H5Dread_chunk(ds.handle.get(), H5P_DEFAULT, offset, &mask, stored[k].data()),
+         "H5Dread_chunk");
+      if (mask != 0) return false;  // a filter was skipped for this chunk
+    }
+    std::atomic<bool> damaged{false};
+    tbb::parallel_for(std::uint64_t{0}, n, [&](std::uint64_t k) {
+      const std::uint64_t row = (first + k) * chunk_rows;
+      const std::uint64_t have = std::min(chunk_rows, rows - row) * row_bytes;
+      unsigned char* dst = out + row * row_bytes;
+      bool fine;
+      if (have == chunk_bytes) {
+        fine = decode_chunk(stored[k].data(), stored[k].size(), dst, chunk_bytes, element_size);
+      } else {
+        std::vector<unsigned char> whole(chunk_bytes);
+        fine = decode_chunk(stored[k].data(), stored[k].size(), whole.data(), chunk_bytes,
+                            element_size);
+        if (fine) std::memcpy(dst, whole.data(), have);
+      }
+      if (!fine) damaged = true;
+    });
+    if (damaged) fail("truncated or damaged HDF5 file (a chunk of " + ds.name + " does not inflate)");
+  }
+  return true;
 }
 
 std::vector<std::string> Reader::strings(const std::string& name, std::uint64_t expected) {
@@ -369,112 +556,130 @@ std::vector<std::string> Reader::strings(const std::string& name, std::uint64_t 
          std::to_string(expected));
   std::vector<std::string> out;
   if (expected == 0) return out;
-  const H5::StrType type = ds.handle.getStrType();
-  if (type.isVariableStr()) {
+  // Read with the file's own string type (variable or fixed length, its character set).
+  const Handle type = type_handle(H5Dget_type(ds.handle.get()), "H5Dget_type");
+  if (ok(H5Tis_variable_str(type.get()), "H5Tis_variable_str") > 0) {
     std::vector<char*> pointers(expected, nullptr);
-    ds.handle.read(pointers.data(), type);
+    ok(H5Dread(ds.handle.get(), type.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, pointers.data()),
+       "H5Dread");
     for (char* p : pointers) out.emplace_back(p ? p : "");
-    H5Dvlen_reclaim(type.getId(), ds.handle.getSpace().getId(), H5P_DEFAULT, pointers.data());
+    const Handle space = space_handle(H5Dget_space(ds.handle.get()), "H5Dget_space");
+    H5Dvlen_reclaim(type.get(), space.get(), H5P_DEFAULT, pointers.data());
   } else {
-    const std::size_t width = type.getSize();
-    if (width > 65536) fail(name + " has strings longer than 65536 bytes");
+    const std::size_t width = H5Tget_size(type.get());
+    if (width == 0 || width > 65536) fail(name + " has strings longer than 65536 bytes");
     std::vector<char> buffer(expected * width);
-    ds.handle.read(buffer.data(), type);
+    ok(H5Dread(ds.handle.get(), type.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, buffer.data()),
+       "H5Dread");
+    const bool space_padded = H5Tget_strpad(type.get()) == H5T_STR_SPACEPAD;
     for (std::size_t i = 0; i < expected; ++i) {
       std::string v(buffer.data() + i * width, width);
       v.erase(std::find(v.begin(), v.end(), '\0'), v.end());
-      if (type.getStrpad() == H5T_STR_SPACEPAD) v.erase(v.find_last_not_of(' ') + 1);
+      if (space_padded) v.erase(v.find_last_not_of(' ') + 1);
       out.push_back(std::move(v));
     }
   }
   return out;
 }
 
-H5::Attribute Reader::attribute(H5::H5Object& obj, const std::string& where, const char* name) {
+Handle Reader::attribute(hid_t obj, const std::string& where, const char* name,
+                         H5T_class_t type_class) {
   context_ = where + " attribute " + name;
-  if (!obj.attrExists(name)) fail("missing attribute " + std::string(name) + " on " + where);
-  H5::Attribute a = obj.openAttribute(name);
-  if (a.getSpace().getSimpleExtentNpoints() != 1)
+  if (ok(H5Aexists(obj, name), "H5Aexists") == 0)
+    fail("missing attribute " + std::string(name) + " on " + where);
+  Handle attr = attr_handle(H5Aopen(obj, name, H5P_DEFAULT), "H5Aopen");
+  const Handle space = space_handle(H5Aget_space(attr.get()), "H5Aget_space");
+  if (H5Sget_simple_extent_npoints(space.get()) != 1)
     fail("attribute " + std::string(name) + " on " + where + " is not a single value");
-  return a;
+  const Handle type = type_handle(H5Aget_type(attr.get()), "H5Aget_type");
+  if (H5Tget_class(type.get()) != type_class)
+    fail("attribute " + std::string(name) + " on " + where + " does not hold " +
+         describe_class(type_class));
+  return attr;
 }
 
-std::string Reader::string_attr(H5::H5Object& obj, const std::string& where, const char* name) {
-  H5::Attribute a = attribute(obj, where, name);
-  if (a.getTypeClass() != H5T_STRING)
-    fail("attribute " + std::string(name) + " on " + where + " is not a string");
-  std::string value;
-  a.read(a.getStrType(), value);
-  // Fixed-length strings come back with their padding.
-  value.erase(std::find(value.begin(), value.end(), '\0'), value.end());
+std::string Reader::string_attr(hid_t obj, const std::string& where, const char* name) {
+  const Handle attr = attribute(obj, where, name, H5T_STRING);
+  const Handle type = type_handle(H5Aget_type(attr.get()), "H5Aget_type");
+  if (ok(H5Tis_variable_str(type.get()), "H5Tis_variable_str") > 0) {
+    char* text = nullptr;
+    ok(H5Aread(attr.get(), type.get(), &text), "H5Aread");
+    std::string value = text ? text : "";
+    H5free_memory(text);
+    return value;
+  }
+  const std::size_t width = H5Tget_size(type.get());
+  if (width == 0 || width > (std::size_t{1} << 24))
+    fail("attribute " + std::string(name) + " on " + where + " is too long");
+  std::vector<char> buffer(width);
+  ok(H5Aread(attr.get(), type.get(), buffer.data()), "H5Aread");
+  std::string value(buffer.begin(), std::find(buffer.begin(), buffer.end(), '\0'));
+  if (H5Tget_strpad(type.get()) == H5T_STR_SPACEPAD) value.erase(value.find_last_not_of(' ') + 1);
   return value;
 }
 
-std::int64_t Reader::int_attr(H5::H5Object& obj, const std::string& where, const char* name) {
-  H5::Attribute a = attribute(obj, where, name);
-  if (a.getTypeClass() != H5T_INTEGER)
-    fail("attribute " + std::string(name) + " on " + where + " is not an integer");
-  const H5::IntType type = a.getIntType();
-  if (type.getSign() == H5T_SGN_NONE) {
+std::int64_t Reader::int_attr(hid_t obj, const std::string& where, const char* name) {
+  const Handle attr = attribute(obj, where, name, H5T_INTEGER);
+  const Handle type = type_handle(H5Aget_type(attr.get()), "H5Aget_type");
+  if (H5Tget_sign(type.get()) == H5T_SGN_NONE) {
     std::uint64_t v = 0;
-    a.read(H5::PredType::NATIVE_UINT64, &v);
+    ok(H5Aread(attr.get(), H5T_NATIVE_UINT64, &v), "H5Aread");
     if (v > static_cast<std::uint64_t>(INT64_MAX))
       fail("attribute " + std::string(name) + " on " + where + " is out of range");
     return static_cast<std::int64_t>(v);
   }
   std::int64_t v = 0;
-  a.read(H5::PredType::NATIVE_INT64, &v);
+  ok(H5Aread(attr.get(), H5T_NATIVE_INT64, &v), "H5Aread");
   return v;
 }
 
-std::uint64_t Reader::uint_attr(H5::H5Object& obj, const std::string& where, const char* name) {
-  H5::Attribute a = attribute(obj, where, name);
-  if (a.getTypeClass() != H5T_INTEGER)
-    fail("attribute " + std::string(name) + " on " + where + " is not an integer");
-  if (a.getIntType().getSign() != H5T_SGN_NONE) {
+std::uint64_t Reader::uint_attr(hid_t obj, const std::string& where, const char* name) {
+  const Handle attr = attribute(obj, where, name, H5T_INTEGER);
+  const Handle type = type_handle(H5Aget_type(attr.get()), "H5Aget_type");
+  if (H5Tget_sign(type.get()) != H5T_SGN_NONE) {
     std::int64_t v = 0;
-    a.read(H5::PredType::NATIVE_INT64, &v);
+    ok(H5Aread(attr.get(), H5T_NATIVE_INT64, &v), "H5Aread");
     if (v < 0) fail("attribute " + std::string(name) + " on " + where + " is negative");
     return static_cast<std::uint64_t>(v);
   }
   std::uint64_t v = 0;
-  a.read(H5::PredType::NATIVE_UINT64, &v);
+  ok(H5Aread(attr.get(), H5T_NATIVE_UINT64, &v), "H5Aread");
   return v;
 }
 
-double Reader::float_attr(H5::H5Object& obj, const std::string& where, const char* name) {
-  H5::Attribute a = attribute(obj, where, name);
-  if (a.getTypeClass() != H5T_FLOAT)
-    fail("attribute " + std::string(name) + " on " + where + " is not a floating-point number");
+double Reader::float_attr(hid_t obj, const std::string& where, const char* name) {
+  const Handle attr = attribute(obj, where, name, H5T_FLOAT);
   double v = 0;
-  a.read(H5::PredType::NATIVE_DOUBLE, &v);
+  ok(H5Aread(attr.get(), H5T_NATIVE_DOUBLE, &v), "H5Aread");
   return v;
 }
 
 void Reader::read_root(ArchiveSnapshot& s) {
   context_ = "the root attributes";
   const char* other_kind = "an HDF5 file, but not a tessera archive (no format=\"tessera-archive\")";
-  if (!file_.attrExists("format")) fail(other_kind);
+  const hid_t root = file_.get();
+  if (ok(H5Aexists(root, "format"), "H5Aexists") == 0) fail(other_kind);
   {
-    H5::Attribute a = file_.openAttribute("format");
-    if (a.getTypeClass() != H5T_STRING) fail(other_kind);
+    const Handle attr = attr_handle(H5Aopen(root, "format", H5P_DEFAULT), "H5Aopen");
+    const Handle type = type_handle(H5Aget_type(attr.get()), "H5Aget_type");
+    if (H5Tget_class(type.get()) != H5T_STRING) fail(other_kind);
   }
-  if (string_attr(file_, "/", "format") != "tessera-archive") fail(other_kind);
-  const std::int64_t version = int_attr(file_, "/", "format_version");
+  if (string_attr(root, "/", "format") != "tessera-archive") fail(other_kind);
+  const std::int64_t version = int_attr(root, "/", "format_version");
   if (version > kArchiveFormatVersion)
-    fail("written by a newer tessera (format " + std::to_string(version) + "); this one reads format " +
-         std::to_string(kArchiveFormatVersion));
+    fail("written by a newer tessera (format " + std::to_string(version) +
+         "); this one reads format " + std::to_string(kArchiveFormatVersion));
   if (version < 1) fail("unknown archive format version " + std::to_string(version));
-  s.problem = string_attr(file_, "/", "problem");
-  s.config = string_attr(file_, "/", "config");
-  s.seed = uint_attr(file_, "/", "seed");
-  s.evaluations = uint_attr(file_, "/", "evaluations");
-  s.tool_version = string_attr(file_, "/", "tool_version");
+  s.problem = string_attr(root, "/", "problem");
+  s.config = string_attr(root, "/", "config");
+  s.seed = uint_attr(root, "/", "seed");
+  s.evaluations = uint_attr(root, "/", "evaluations");
+  s.tool_version = string_attr(root, "/", "tool_version");
 }
 
 void Reader::read_space(ArchiveSnapshot& s) {
-  H5::Group space = group("/space");
-  s.space_kind = string_attr(space, "/space", "kind");
+  const Handle space = group("/space");
+  s.space_kind = string_attr(space.get(), "/space", "kind");
   if (s.space_kind != "grid" && s.space_kind != "cvt" && s.space_kind != "unstructured")
     fail("/space kind \"" + s.space_kind + "\" is not grid, cvt or unstructured");
   Dataset lower = dataset("/space/lower", H5T_FLOAT, 1);
@@ -505,8 +710,8 @@ void Reader::read_space(ArchiveSnapshot& s) {
       fail("/space/centroids has more than 2^28 rows");
     s.centroids = values<double>(centroids);
   }
-  // Resolution and centroids bound the number of elites read below.
-  if (auto f = space_fault(s)) fail(*f);
+  // The number of cells bounds the number of elites read next.
+  if (auto fault = space_fault(s)) fail(*fault);
 }
 
 void Reader::read_genome(ArchiveSnapshot& s) {
@@ -515,10 +720,11 @@ void Reader::read_genome(ArchiveSnapshot& s) {
   Dataset upper = dataset("/genome/upper", H5T_FLOAT, 1);
   if (lower.elements == 0) fail("/genome/lower is empty");
   if (lower.elements > kMaxGenomeSize)
-    fail("/genome/lower has " + std::to_string(lower.elements) + " entries, more than tessera reads");
+    fail("/genome/lower has " + std::to_string(lower.elements) +
+         " entries, more than tessera reads");
   if (upper.elements != lower.elements)
-    fail("/genome/upper has " + std::to_string(upper.elements) + " entries but /genome/lower has " +
-         std::to_string(lower.elements));
+    fail("/genome/upper has " + std::to_string(upper.elements) +
+         " entries but /genome/lower has " + std::to_string(lower.elements));
   s.genome_bounds.lower = values<double>(lower);
   s.genome_bounds.upper = values<double>(upper);
 }
@@ -533,25 +739,20 @@ void Reader::read_elites(ArchiveSnapshot& s) {
   Dataset genome = dataset("/elites/genome", H5T_FLOAT, 2);
   Dataset descriptor = dataset("/elites/descriptor", H5T_FLOAT, 2);
   const std::uint64_t n = fitness.elements;
-  const auto rows = [&](const Dataset& ds) {
-    if (ds.dims[0] != n)
-      fail(ds.name + " has " + std::to_string(ds.dims[0]) + " rows but /elites/fitness has " +
+  for (const Dataset* ds : {&cell, &birth, &genome, &descriptor})
+    if (ds->dims[0] != n)
+      fail(ds->name + " has " + std::to_string(ds->dims[0]) + " rows but /elites/fitness has " +
            std::to_string(n));
-  };
-  rows(cell);
-  rows(birth);
-  rows(genome);
-  rows(descriptor);
   if (genome.dims[1] != g)
-    fail("/elites/genome has " + std::to_string(genome.dims[1]) + " columns but /genome/lower has " +
-         std::to_string(g));
+    fail("/elites/genome has " + std::to_string(genome.dims[1]) +
+         " columns but /genome/lower has " + std::to_string(g));
   if (descriptor.dims[1] != d)
     fail("/elites/descriptor has " + std::to_string(descriptor.dims[1]) +
          " columns but /space/lower has " + std::to_string(d));
   // Before allocating: no more elites than cells (unstructured archives number them 0..N-1).
-  const std::uint64_t cells = s.space_kind == "grid"  ? static_cast<std::uint64_t>(s.cell_count())
-                              : s.space_kind == "cvt" ? s.centroids.size() / d
-                                                      : static_cast<std::uint64_t>(kMaxCells);
+  const std::uint64_t cells = s.space_kind == "unstructured"
+                                  ? static_cast<std::uint64_t>(kMaxCells)
+                                  : static_cast<std::uint64_t>(s.cell_count());
   if (n > cells) fail(std::to_string(n) + " elites for " + std::to_string(cells) + " cells");
   s.fitness = values<double>(fitness);
   s.cell = values<std::int64_t>(cell);
@@ -561,8 +762,8 @@ void Reader::read_elites(ArchiveSnapshot& s) {
 }
 
 void Reader::read_history(ArchiveSnapshot& s) {
-  H5::Group history = group("/history");
-  s.qd_offset = float_attr(history, "/history", "qd_offset");
+  const Handle history = group("/history");
+  s.qd_offset = float_attr(history.get(), "/history", "qd_offset");
   Dataset evaluations = dataset("/history/evaluations", H5T_INTEGER, 1);
   Dataset coverage = dataset("/history/coverage", H5T_FLOAT, 1);
   Dataset qd_score = dataset("/history/qd_score", H5T_FLOAT, 1);
@@ -582,44 +783,85 @@ void Reader::read_history(ArchiveSnapshot& s) {
   for (std::size_t i = 0; i < t; ++i) s.history[i] = HistoryRow{e[i], c[i], q[i], m[i]};
 }
 
-void Reader::read_resume(ArchiveSnapshot& s) {
-  if (!exists("/resume")) return;
-  H5::Group resume = group("/resume");
-  ResumeState state;
-  state.algorithm = string_attr(resume, "/resume", "algorithm");
-  state.next_batch = uint_attr(resume, "/resume", "next_batch");
-  H5::Group counters = group("/resume/counters");
-  const int attrs = counters.getNumAttrs();
-  if (attrs < 0 || static_cast<std::uint64_t>(attrs) > kMaxResumeEntries)
-    fail("/resume/counters has more than " + std::to_string(kMaxResumeEntries) + " entries");
-  for (int i = 0; i < attrs; ++i) {
-    const std::string name = counters.openAttribute(static_cast<unsigned>(i)).getName();
-    state.counters[name] = uint_attr(counters, "/resume/counters", name.c_str());
+// Names of a group's links (or of an object's attributes), at most `limit` + 1 of them.
+std::vector<std::string> attribute_names(hid_t obj, std::size_t limit) {
+  struct Collect {
+    std::vector<std::string> names;
+    std::size_t limit;
+  } collect{{}, limit};
+  hsize_t index = 0;
+  ok(H5Aiterate2(
+         obj, H5_INDEX_NAME, H5_ITER_INC, &index,
+         [](hid_t, const char* name, const H5A_info_t*, void* data) -> herr_t {
+           auto* c = static_cast<Collect*>(data);
+           c->names.emplace_back(name);
+           return c->names.size() > c->limit ? 1 : 0;
+         },
+         &collect),
+     "H5Aiterate2");
+  return collect.names;
+}
+
+std::vector<std::string> link_names(hid_t group, std::size_t limit) {
+  H5G_info_t info;
+  ok(H5Gget_info(group, &info), "H5Gget_info");
+  std::vector<std::string> names;
+  for (hsize_t i = 0; i < info.nlinks && names.size() <= limit; ++i) {
+    const ssize_t length = ok(H5Lget_name_by_idx(group, ".", H5_INDEX_NAME, H5_ITER_INC, i,
+                                                 nullptr, 0, H5P_DEFAULT),
+                              "H5Lget_name_by_idx");
+    std::string name(static_cast<std::size_t>(std::min<ssize_t>(length, 4096)) + 1, '\0');
+    ok(H5Lget_name_by_idx(group, ".", H5_INDEX_NAME, H5_ITER_INC, i, name.data(), name.size(),
+                          H5P_DEFAULT),
+       "H5Lget_name_by_idx");
+    name.resize(std::strlen(name.c_str()));
+    names.push_back(std::move(name));
   }
-  H5::Group arrays = group("/resume/arrays");
-  const hsize_t links = arrays.getNumObjs();
-  if (links > kMaxResumeEntries)
+  return names;
+}
+
+void Reader::read_resume(ArchiveSnapshot& s) {
+  context_ = "/resume";
+  if (!exists("/resume")) return;
+  const Handle resume = group("/resume");
+  ResumeState state;
+  state.algorithm = string_attr(resume.get(), "/resume", "algorithm");
+  state.next_batch = uint_attr(resume.get(), "/resume", "next_batch");
+  const Handle counters = group("/resume/counters");
+  const auto counter_names = attribute_names(counters.get(), kMaxResumeEntries);
+  if (counter_names.size() > kMaxResumeEntries)
+    fail("/resume/counters has more than " + std::to_string(kMaxResumeEntries) + " entries");
+  for (const auto& name : counter_names)
+    state.counters[name] = uint_attr(counters.get(), "/resume/counters", name.c_str());
+  const Handle arrays = group("/resume/arrays");
+  const auto array_names = link_names(arrays.get(), kMaxResumeEntries);
+  if (array_names.size() > kMaxResumeEntries)
     fail("/resume/arrays has more than " + std::to_string(kMaxResumeEntries) + " entries");
-  for (hsize_t i = 0; i < links; ++i) {
-    const std::string name = arrays.getObjnameByIdx(i);
-    state.arrays[name] = read_vector<double>("/resume/arrays/" + name);
+  for (const auto& name : array_names) {
+    Dataset ds = dataset("/resume/arrays/" + name, H5T_FLOAT, 1);
+    state.arrays[name] = values<double>(ds);
   }
   s.resume = std::move(state);
 }
 
 ArchiveSnapshot Reader::read() {
   check_file_on_disk();
-  open();
   ArchiveSnapshot s;
   try {
+    const Handle fapl = access_properties();
+    try {
+      file_ = Handle(H5Fopen(path_.c_str(), H5F_ACC_RDONLY, fapl.get()), H5Fclose, "H5Fopen");
+    } catch (const Hdf5Failure&) {
+      fail("truncated or damaged HDF5 file (it cannot be opened)");
+    }
     read_root(s);
     read_space(s);
     read_genome(s);
     read_elites(s);
     read_history(s);
     read_resume(s);
-    file_.close();
-  } catch (const H5::Exception&) {
+    file_.close("H5Fclose");
+  } catch (const Hdf5Failure&) {
     fail("truncated or damaged HDF5 file (reading " + context_ + ")");
   }
   if (auto fault = snapshot_fault(s)) fail(*fault);
@@ -633,42 +875,42 @@ void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot
   if (auto fault = snapshot_fault(snapshot))
     throw std::invalid_argument(path + ": cannot write archive: " + *fault);
   const fs::path target(path);
-  if (target.filename().empty()) throw InputError(path + ": cannot write archive: not a file name");
+  if (target.filename().empty())
+    throw InputError(path + ": cannot write archive: not a file name");
   const fs::path folder = target.has_parent_path() ? target.parent_path() : fs::path(".");
   const fs::path temp =
       folder / ("." + target.filename().string() + ".tmp-" + std::to_string(::getpid()));
 
   std::lock_guard<std::mutex> lock(hdf5_mutex());
-  H5::Exception::dontPrint();
+  H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);  // errors come back as one line, never printed
   try {
     // Create the file ourselves first: the system's reason ("Permission denied") is clearer
     // than HDF5's, and a stale temporary file of this process is truncated.
     const int fd = ::open(temp.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0666);
     if (fd < 0) throw errno_error("cannot create " + temp.string());
     ::close(fd);
-    try {
-      H5::H5File file(temp.string(), H5F_ACC_TRUNC, H5::FileCreatPropList::DEFAULT,
-                      access_properties());
-      write_contents(file, snapshot);
-      file.flush(H5F_SCOPE_GLOBAL);
-      file.close();  // explicit: a failure to write the last metadata must throw, not vanish
-    } catch (const H5::Exception& e) {
-      throw std::runtime_error(hdf5_reason(e));
+    {
+      const Handle fapl = access_properties();
+      Handle file(H5Fcreate(temp.c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, fapl.get()), H5Fclose,
+                  "H5Fcreate");
+      write_contents(file.get(), snapshot);
+      ok(H5Fflush(file.get(), H5F_SCOPE_GLOBAL), "H5Fflush");
+      file.close("H5Fclose");  // explicit: failing to write the last metadata must throw
     }
-    sync_path(temp, false);
+    sync_file(temp);
     if (std::rename(temp.c_str(), target.c_str()) != 0)
       throw errno_error("cannot rename " + temp.string() + " to " + path);
-    sync_path(folder, true);
+    sync_folder(folder);
   } catch (const std::exception& e) {
     std::error_code ignored;
-    if (fs::exists(temp, ignored)) fs::remove(temp, ignored);
+    fs::remove(temp, ignored);
     throw InputError(path + ": cannot write archive: " + e.what());
   }
 }
 
 ArchiveSnapshot read_archive_file(const std::string& path) {
   std::lock_guard<std::mutex> lock(hdf5_mutex());
-  H5::Exception::dontPrint();
+  H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);  // errors come back as one line, never printed
   Reader reader(path);
   return reader.read();
 }

@@ -66,6 +66,13 @@ const std::map<std::string, KeySpec>& schema() {
       {"search.sigma_iso", {KeyType::number, def_num(0.01), "Iso+LineDD isotropic step"}},
       {"search.sigma_line", {KeyType::number, def_num(0.2), "Iso+LineDD line step"}},
       {"search.sigma", {KeyType::number, def_num(0.05), "Gaussian mutation step"}},
+      {"search.tournament", {KeyType::integer, def_int(3), "population searches: tournament size"}},
+      {"novelty.neighbours", {KeyType::integer, def_int(15), "k nearest neighbours"}},
+      {"novelty.threshold", {KeyType::number, def_num(0.05), "initial archive threshold"}},
+      {"novelty.window", {KeyType::integer, def_int(2500), "evaluations per adaptation window"}},
+      {"novelty.raise_above", {KeyType::integer, def_int(4), "entries per window that raise it"}},
+      {"novelty.raise", {KeyType::number, def_num(1.2), "threshold factor on many entries"}},
+      {"novelty.lower", {KeyType::number, def_num(0.95), "threshold factor on no entry"}},
       {"checkpoint.every_evaluations", {KeyType::integer, def_int(0), "checkpoint interval"}},
       {"checkpoint.every_seconds", {KeyType::number, def_num(300.0), "checkpoint interval"}},
   };
@@ -135,7 +142,7 @@ void check_known_keys(const toml::table& root, const Checker& checker) {
     const auto* section_table = section_node.as_table();
     if (!section_table)
       checker.fail(&section_node, section, "top-level keys must be tables: [problem], [space], "
-                                           "[search], [checkpoint]");
+                                           "[search], [novelty], [checkpoint]");
     for (const auto& [key, node] : *section_table) {
       const std::string full = section + "." + std::string(key.str());
       const auto it = schema().find(full);
@@ -220,6 +227,18 @@ std::string resolve_argument(const std::string& arg, const std::string& base_dir
   return arg;
 }
 
+// Problem options naming files (key `layout`, or a key ending in `_file`) resolve against the
+// run file's folder like worker arguments, when such a file exists there.
+void resolve_option_paths(toml::table& options, const std::string& base_dir) {
+  for (auto&& [key, node] : options) {
+    const std::string_view name = key.str();
+    const bool names_file =
+        name == "layout" || (name.size() > 5 && name.substr(name.size() - 5) == "_file");
+    if (auto* text = node.as_string(); names_file && text)
+      text->get() = resolve_argument(text->get(), base_dir);
+  }
+}
+
 ProblemSpec parse_problem(toml::table& section, const std::string& base_dir, const Checker& checker,
                           const std::string& source) {
   ProblemSpec spec;
@@ -230,7 +249,8 @@ ProblemSpec parse_problem(toml::table& section, const std::string& base_dir, con
     checker.fail(section["kind"].node(), "problem.kind", "must be \"plugin\" or \"process\"");
   if (spec.name.empty())
     checker.fail(nullptr, "problem.name", "missing (see `tessera problems` for the names)");
-  if (const auto* options = section["options"].as_table()) {
+  if (auto* options = section["options"].as_table()) {
+    resolve_option_paths(*options, base_dir);
     std::ostringstream text;
     text << *options;
     spec.options_toml = text.str();
@@ -281,9 +301,26 @@ ProblemSpec parse_problem(toml::table& section, const std::string& base_dir, con
   return spec;
 }
 
+void parse_novelty(const toml::table& t, const Checker& checker, NoveltySettings& out) {
+  out.neighbours = static_cast<std::size_t>(positive_int(t, "novelty", "neighbours", 1, checker));
+  out.window = static_cast<std::uint64_t>(positive_int(t, "novelty", "window", 1, checker));
+  out.raise_above = static_cast<std::uint64_t>(positive_int(t, "novelty", "raise_above", 0, checker));
+  out.threshold = get_num(t, "threshold", 0.05);
+  out.raise = get_num(t, "raise", 1.2);
+  out.lower = get_num(t, "lower", 0.95);
+  if (!(out.threshold > 0.0) || !std::isfinite(out.threshold))
+    checker.fail(t["threshold"].node(), "novelty.threshold", "must be a finite number > 0");
+  if (!(out.raise >= 1.0) || !std::isfinite(out.raise))
+    checker.fail(t["raise"].node(), "novelty.raise", "must be a finite number >= 1");
+  if (!(out.lower > 0.0 && out.lower <= 1.0))
+    checker.fail(t["lower"].node(), "novelty.lower", "must lie in (0, 1]");
+}
+
 }  // namespace
 
-std::vector<std::string> known_algorithms() { return {"map-elites"}; }
+std::vector<std::string> known_algorithms() {
+  return {"map-elites", "novelty", "novelty-lc", "objective", "random"};
+}
 
 std::string RunConfig::section_toml(const std::string& section) const {
   const toml::table root = toml::parse(resolved_toml);
@@ -316,6 +353,7 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
 
   RunConfig config;
   config.source = source;
+  config.base_dir = base_dir;
   config.problem = parse_problem(section_of(root, "problem"), base_dir, checker, source);
 
   toml::table& search = section_of(root, "search");
@@ -344,6 +382,9 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
   config.variation.sigma_iso = get_num(search, "sigma_iso", 0.01);
   config.variation.sigma_line = get_num(search, "sigma_line", 0.2);
   config.variation.sigma = get_num(search, "sigma", 0.05);
+  config.population.tournament =
+      static_cast<std::size_t>(positive_int(search, "search", "tournament", 1, checker));
+  parse_novelty(section_of(root, "novelty"), checker, config.population.novelty);
   for (const char* key : {"sigma_iso", "sigma_line", "sigma"}) {
     const double v = get_num(search, key, 0.0);
     if (!(v >= 0.0) || !std::isfinite(v))

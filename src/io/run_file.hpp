@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "core/cvt.hpp"
+#include "core/population_search.hpp"
 #include "core/search.hpp"
 #include "core/variation_emitter.hpp"
 #include "problems/problem_spec.hpp"
@@ -27,10 +28,12 @@ struct CheckpointConfig {
 
 struct RunConfig {
   std::string source;          // file the run came from (path or "archive NAME")
+  std::string base_dir;        // folder that relative paths resolve against
   ProblemSpec problem;
   std::string algorithm = "map-elites";
   SearchSettings search;
   VariationSettings variation;
+  PopulationSettings population;  // novelty, novelty-lc, objective, random
   SpaceConfig space;
   CheckpointConfig checkpoint;
   std::string resolved_toml;   // the whole run file with defaults, as stored in archives

@@ -108,8 +108,9 @@ class PluginLibrary {
                        " (rebuild the plugin against this tessera's plugin.h)");
     const char* problem = name();
     if (problem == nullptr || !valid_problem_name(problem))
-      throw InputError(path_ + ": tsr_problem_name() must return a name of letters, digits, "
-                               "'-', '_' or '.'");
+      throw InputError(path_ +
+                       ": tsr_problem_name() must return a name of letters, digits, "
+                       "'-', '_' or '.'");
     header_.name = problem;
   }
 
@@ -154,8 +155,7 @@ ProblemInfo read_metadata(const PluginLibrary& library, const tsr_instance* inst
     if (m.name == nullptr) throw std::invalid_argument("metadata without a problem name");
     if (library.header().name != m.name)
       throw std::invalid_argument("metadata names problem '" + one_line(m.name) +
-                                  "' but tsr_problem_name() says '" + library.header().name +
-                                  "'");
+                                  "' but tsr_problem_name() says '" + library.header().name + "'");
     if (m.genome_size == 0 || m.genome_size > kMaxSize)
       throw std::invalid_argument("genome size " + std::to_string(m.genome_size) +
                                   " is impossible");
@@ -208,8 +208,7 @@ class PluginInstance final : public ProblemInstance {
         handle_.get(), count, batch.genomes.data() + first * genome_size_,
         batch.fitness.data() + first, batch.descriptors.data() + first * descriptor_size_,
         batch.valid.data() + first,
-        extra_size_ == 0 ? nullptr : batch.extras.data() + first * extra_size_, error,
-        kErrorSize);
+        extra_size_ == 0 ? nullptr : batch.extras.data() + first * extra_size_, error, kErrorSize);
     if (status != TSR_OK) {
       std::string reason = buffer_text(error);
       if (reason.empty()) reason = "no reason given (status " + std::to_string(status) + ")";

@@ -55,7 +55,7 @@ std::vector<std::string> plugin_search_path() {
     }
   }
   if (const fs::path exe = executable_dir(); !exe.empty()) {
-    dirs.push_back((exe / "plugins").string());                                  // build tree
+    dirs.push_back((exe / "plugins").string());  // build tree
     dirs.push_back((exe / ".." / "lib" / "tessera" / "plugins").lexically_normal().string());
   }
 #ifdef TESSERA_PLUGIN_INSTALL_DIR
@@ -99,7 +99,8 @@ std::vector<PluginEntry> discover_plugins() {
         entry.name = header.name;
         entry.abi_version = header.abi_version;
         const auto [it, fresh] = provider.emplace(entry.name, entry.path);
-        if (!fresh) entry.error = "problem '" + entry.name + "' is already provided by " + it->second;
+        if (!fresh)
+          entry.error = "problem '" + entry.name + "' is already provided by " + it->second;
       } catch (const InputError& e) {
         entry.name = name_from_file(file.filename().string());
         std::string reason = e.what();
@@ -117,7 +118,8 @@ std::shared_ptr<Problem> open_plugin_problem(const std::string& name,
                                              const std::string& options_toml) {
   const auto entries = discover_plugins();
   for (const auto& entry : entries)
-    if (entry.name == name && entry.error.empty()) return load_plugin_problem(entry.path, options_toml);
+    if (entry.name == name && entry.error.empty())
+      return load_plugin_problem(entry.path, options_toml);
   // No usable file provides the name: a refused one that would is the likely culprit.
   for (const auto& entry : entries)
     if (entry.name == name) throw InputError(entry.path + ": " + entry.error);

@@ -211,6 +211,44 @@ TEST_CASE("the datasets have the format 1 types and are chunked and compressed",
   CHECK(deflate);
 }
 
+TEST_CASE("chunks compressed by HDF5's own filters read back the same", "[archive_file]") {
+  // The writer compresses chunks itself on many threads; the reader expands them itself. Both
+  // must agree with libhdf5's shuffle + deflate filters: rewrite /elites/genome through libhdf5
+  // (several chunk shapes and filter orders) and read it back.
+  H5::Exception::dontPrint();
+  TempDir dir;
+  SampleOptions o;
+  o.elites = 3000;
+  o.genome = 30;
+  const ArchiveSnapshot original = sample_snapshot(o);
+  const std::string path = dir.file("library.h5");
+  for (const hsize_t rows_per_chunk : {hsize_t{1}, hsize_t{7}, hsize_t{1000}, hsize_t{3000}}) {
+    for (const bool shuffle : {true, false}) {
+      write_archive_file(path, original);
+      {
+        H5::H5File file(path, H5F_ACC_RDWR);
+        file.unlink("/elites/genome");
+        const hsize_t dims[2] = {3000, 30}, chunk[2] = {rows_per_chunk, 30};
+        H5::DSetCreatPropList props;
+        props.setChunk(2, chunk);
+        if (shuffle) props.setShuffle();
+        props.setDeflate(6);
+        file.createDataSet("/elites/genome", H5::PredType::IEEE_F64LE, H5::DataSpace(2, dims),
+                           props)
+            .write(original.genome.data(), H5::PredType::NATIVE_DOUBLE);
+      }
+      INFO("rows per chunk " << rows_per_chunk << ", shuffle " << shuffle);
+      CHECK(same_bits(read_archive_file(path).genome, original.genome));
+    }
+  }
+  // And the other way: libhdf5 expands the chunks tessera compressed.
+  write_archive_file(path, original);
+  H5::H5File file(path, H5F_ACC_RDONLY);
+  std::vector<double> genome(original.genome.size());
+  file.openDataSet("/elites/genome").read(genome.data(), H5::PredType::NATIVE_DOUBLE);
+  CHECK(same_bits(genome, original.genome));
+}
+
 TEST_CASE("100,000 elites with 100-parameter genomes round-trip", "[archive_file][large]") {
   TempDir dir;
   SampleOptions o;
@@ -436,6 +474,34 @@ TEST_CASE("bad files are refused with one line naming the file and the fault",
     require_refused(path, "/elites/genome claims 50 x 1099511627776 values, more than tessera reads");
   }
 
+  SECTION("a damaged compressed chunk") {
+    // Overwrite bytes inside one stored chunk of /elites/genome, found through HDF5's own chunk
+    // index, so that only the compressed data (not the file's structure) is damaged.
+    SampleOptions o;
+    o.elites = 4000;
+    o.genome = 60;
+    const std::string path = dir.file("chunk.h5");
+    write_archive_file(path, sample_snapshot(o));
+    haddr_t address = 0;
+    hsize_t size = 0;
+    {
+      H5::H5File file(path, H5F_ACC_RDONLY);
+      H5::DataSet ds = file.openDataSet("/elites/genome");
+      hsize_t offset[2];
+      unsigned mask = 0;
+      const H5::DataSpace space = ds.getSpace();
+      REQUIRE(H5Dget_chunk_info(ds.getId(), space.getId(), 1, offset, &mask, &address, &size) >= 0);
+    }
+    REQUIRE(size > 100);
+    {
+      std::fstream f(path, std::ios::in | std::ios::out | std::ios::binary);
+      f.seekp(static_cast<std::streamoff>(address + size / 2));
+      const std::string junk(32, '\x5a');
+      f.write(junk.data(), static_cast<std::streamsize>(junk.size()));
+    }
+    require_refused(path, "truncated or damaged HDF5 file");
+  }
+
   SECTION("the reader changes nothing on disk") {
     const std::vector<char> before = file_bytes(valid);
     const auto listing = dir.listing();
@@ -464,9 +530,23 @@ TEST_CASE("a failed write leaves the previous archive intact", "[archive_file]")
     CHECK_THROWS_AS(write_archive_file(path, bad), std::invalid_argument);
   }
 
-  SECTION("the file system refuses the temporary file") {
+  SECTION("the temporary file cannot be created") {
+    // A folder squatting on the temporary name refuses the file even for root.
+    const fs::path squatter = dir.path / (".run.h5.tmp-" + std::to_string(::getpid()));
+    fs::create_directory(squatter);
+    try {
+      write_archive_file(path, sample_snapshot({.salt = 2}));
+      FAIL("write over a folder named like the temporary file succeeded");
+    } catch (const InputError& e) {
+      CHECK_THAT(e.what(), Catch::StartsWith(path + ": cannot write archive:") &&
+                               Catch::Contains("Is a directory"));
+    }
+    fs::remove(squatter);
+  }
+
+  SECTION("the folder is read-only") {
     if (::geteuid() == 0) {
-      WARN("running as root: permissions do not stop writes; checked by the size limit below");
+      WARN("running as root: permissions do not stop root; the other sections cover this path");
       return;
     }
     fs::permissions(dir.path, fs::perms::owner_read | fs::perms::owner_exec);

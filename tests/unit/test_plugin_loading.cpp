@@ -32,7 +32,9 @@ namespace fs = std::filesystem;
 const std::string kPluginDir = TESSERA_PLUGIN_DIR;
 const std::string kBadDir = TESSERA_BAD_PLUGIN_DIR;
 
-void use_plugin_path(const std::string& path) { setenv("TESSERA_PLUGIN_PATH", path.c_str(), 1); }
+void use_plugin_path(const std::string& path) {
+  setenv("TESSERA_PLUGIN_PATH", path.c_str(), 1);
+}
 
 std::string plugin_file(const std::string& dir, const std::string& name) {
   return dir + "/tessera-plugin-" + name + ".so";
@@ -50,7 +52,9 @@ void model_evaluate(const std::string& problem, const double* genome, std::size_
   }
 }
 
-bool same_bits(double a, double b) { return std::memcmp(&a, &b, sizeof a) == 0; }
+bool same_bits(double a, double b) {
+  return std::memcmp(&a, &b, sizeof a) == 0;
+}
 
 bool contains(const std::string& text, const std::string& part) {
   return text.find(part) != std::string::npos;
@@ -159,7 +163,8 @@ TEST_CASE("plugin output is bit-identical to the in-process model", "[bits]") {
     for (std::size_t k = 0; k < count; ++k) {
       double fitness = 0, descriptor[2];
       model_evaluate(s.name, batch.genomes.data() + k * n, n, fitness, descriptor);
-      if (!same_bits(fitness, batch.fitness[k]) || !same_bits(descriptor[0], batch.descriptors[2 * k]) ||
+      if (!same_bits(fitness, batch.fitness[k]) ||
+          !same_bits(descriptor[0], batch.descriptors[2 * k]) ||
           !same_bits(descriptor[1], batch.descriptors[2 * k + 1]) || batch.valid[k] != 1)
         ++mismatches;
     }
@@ -181,10 +186,10 @@ TEST_CASE("MAP-Elites archives are bit-identical with the plugin and in-process"
       settings.evaluations = 64 * 30;
       auto space = std::make_shared<tessera::GridSpace>(info.descriptor, info.descriptor_names,
                                                         std::vector<std::int64_t>{20, 20});
-      tessera::MapElitesSearch search(settings, space, info.genome, info.fitness_lower,
-                                      std::make_unique<tessera::VariationEmitter>(
-                                          tessera::VariationSettings{}),
-                                      std::move(evaluate));
+      tessera::MapElitesSearch search(
+          settings, space, info.genome, info.fitness_lower,
+          std::make_unique<tessera::VariationEmitter>(tessera::VariationSettings{}),
+          std::move(evaluate));
       while (!search.finished()) search.step();
       tessera::ArchiveSnapshot snapshot;
       search.save(snapshot);
@@ -237,17 +242,17 @@ TEST_CASE("plugin options are read with toml++ and checked", "[options]") {
         input_error_of([] { tessera::open_plugin_problem("arm", "jionts = 3"); });
     CHECK(contains(unknown, arm_file));
     CHECK(contains(unknown, "unknown option 'jionts'"));
-    const std::string zero = input_error_of([] { tessera::open_plugin_problem("arm", "joints = 0"); });
+    const std::string zero =
+        input_error_of([] { tessera::open_plugin_problem("arm", "joints = 0"); });
     CHECK(contains(zero, arm_file));
     CHECK(contains(zero, "'joints'"));
     CHECK(contains(input_error_of([] { tessera::open_plugin_problem("arm", "joints = 'ten'"); }),
                    "must be an integer"));
     CHECK(contains(input_error_of([] { tessera::open_plugin_problem("arm", "joints = = 3"); }),
                    "not valid TOML"));
-    CHECK(contains(input_error_of([] {
-                     tessera::open_plugin_problem("rastrigin-proj", "dimensions = 1");
-                   }),
-                   "'dimensions'"));
+    CHECK(contains(
+        input_error_of([] { tessera::open_plugin_problem("rastrigin-proj", "dimensions = 1"); }),
+        "'dimensions'"));
     for (const auto& message : {unknown, zero}) CHECK(message.find('\n') == std::string::npos);
   }
 }
@@ -301,7 +306,11 @@ TEST_CASE("faulty plugin files are refused with a message naming the file", "[re
     const fs::path dir = fs::temp_directory_path() / ("tessera-junk-" + std::to_string(getpid()));
     fs::create_directories(dir);
     const std::string file = (dir / "tessera-plugin-junk.so").string();
-    { std::FILE* f = std::fopen(file.c_str(), "w"); std::fputs("not an ELF file\n", f); std::fclose(f); }
+    {
+      std::FILE* f = std::fopen(file.c_str(), "w");
+      std::fputs("not an ELF file\n", f);
+      std::fclose(f);
+    }
     const std::string message = input_error_of([&] { tessera::load_plugin_problem(file, ""); });
     CHECK(message.rfind(file + ": cannot be loaded", 0) == 0);
     CHECK(message.find('\n') == std::string::npos);

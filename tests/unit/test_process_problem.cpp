@@ -53,8 +53,11 @@ ProblemSpec make_spec(std::vector<std::string> command, std::size_t workers, dou
   info.genome = {std::vector<double>(genome_size, -4.0), std::vector<double>(genome_size, 4.0)};
   info.descriptor = {std::vector<double>(descriptor_size, -4.0),
                      std::vector<double>(descriptor_size, 4.0)};
-  for (std::size_t j = 0; j < descriptor_size; ++j)
-    info.descriptor_names.push_back("d" + std::to_string(j));
+  for (std::size_t j = 0; j < descriptor_size; ++j) {
+    std::string name = "d";  // appended, not "d" + ...: GCC 12 warns falsely (-Wrestrict)
+    name += std::to_string(j);
+    info.descriptor_names.push_back(name);
+  }
   info.fitness_lower = -100.0;
   info.fitness_upper = 100.0;
   return spec;
@@ -174,9 +177,9 @@ TEST_CASE("JSON numbers written by nlohmann read back to the same double") {
 TEST_CASE("genomes cross to a Python worker and back bit for bit") {
   // Python's json prints floats with repr(), also shortest round-trip (Python docs, "Floating
   // point arithmetic: issues and limitations"); the echo worker sends the genome back.
-  constexpr std::size_t kSize = 6;
+  constexpr std::size_t kSize = 6;  // also the worker's argument below
   auto problem = open_process_problem(
-      make_spec({kPython, fixture("echo_worker.py"), "0", std::to_string(kSize)}, 2, 20.0, kSize,
+      make_spec({kPython, fixture("echo_worker.py"), "0", "6"}, 2, 20.0, kSize,
                 kSize));
   Batch batch = uniform_batch(300, kSize, kSize, -1.0, 1.0, 7);
   std::mt19937_64 rng(99);
@@ -289,9 +292,9 @@ TEST_CASE("a worker past the timeout is killed and the hanging candidates fail")
 }
 
 TEST_CASE("garbage, NaN, wrong lengths, unknown ids and error answers fail only their candidate") {
-  constexpr std::size_t kDescriptor = 3;
+  constexpr std::size_t kDescriptor = 3;  // also the worker's argument below
   auto problem = open_process_problem(
-      make_spec({kPython, fixture("garbage_worker.py"), "10", std::to_string(kDescriptor)}, 2,
+      make_spec({kPython, fixture("garbage_worker.py"), "10", "3"}, 2,
                 20.0, 4, kDescriptor));
   Batch batch = uniform_batch(600, 4, kDescriptor, -3.0, 3.0, 8);
   // fault_kind -> reason, as listed in garbage_worker.py.
@@ -353,19 +356,30 @@ TEST_CASE("inconsistent process descriptions are refused naming the run file") {
                                   Catch::Contains("No such file"));
 }
 
-TEST_CASE("a worker that never answers ends the batch with an error, not a hang or SIGPIPE") {
-  // /bin/false exits at once; the shell closes its stdin and lingers, so writes to it fail with
-  // EPIPE (SIGPIPE would kill this test program).
-  const std::vector<std::string> command =
-      GENERATE(std::vector<std::string>{"/bin/false"},
-               std::vector<std::string>{"/bin/sh", "-c", "exec 0<&-; sleep 30"});
-  auto problem = open_process_problem(make_spec(command, 2, 20.0, 2, 2));
+TEST_CASE("a worker that exits at once ends the batch with an error, not a hang") {
+  auto problem = open_process_problem(make_spec({"/bin/false"}, 2, 20.0, 2, 2));
   Batch batch = uniform_batch(40, 2, 2, -1.0, 1.0, 1);
   ThreadEvaluator evaluator(problem, 2);
   REQUIRE_THROWS_WITH(evaluator.evaluate(batch), Catch::Contains("keeps exiting"));
-  for (unsigned char v : batch.valid) REQUIRE(v == 0);
+  for (unsigned char v : batch.valid) REQUIRE(v != 1);
   // Later batches are refused at once.
   REQUIRE_THROWS_WITH(evaluator.evaluate(batch), Catch::Contains("keeps exiting"));
+}
+
+TEST_CASE("a worker that closes its stdin costs no evaluation and no SIGPIPE") {
+  // Each life of closing_worker.py answers one request and closes its stdin first, so every
+  // later write to it fails with EPIPE; SIGPIPE's default action would end this test program.
+  const std::string log = temp_log("closing");
+  auto problem = open_process_problem(
+      make_spec({kPython, fixture("closing_worker.py")}, 2, 20.0, 3, 2, log));
+  Batch batch = uniform_batch(24, 3, 2, -3.0, 3.0, 6);
+  ThreadEvaluator evaluator(problem, 2);
+  evaluator.evaluate(batch);
+  for (std::size_t i = 0; i < batch.count; ++i) require_fixture_answer(batch, i);
+  REQUIRE(counts_of(*problem).empty());
+  // One worker life per candidate: each was restarted after a failed write.
+  REQUIRE(count_lines_with(read_file(log), "answered") == batch.count);
+  fs::remove(log);
 }
 
 TEST_CASE("destroying the problem ends and reaps every worker") {

@@ -1,0 +1,96 @@
+// `tessera front ARCHIVE.h5 --objective fitness:max --objective NAME:min|max ... [--within ...]
+// [--format text|json|csv]`: the non-dominated elites among those within the constraints, sorted
+// by the first objective, best first.
+#include <iostream>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "cli/commands.hpp"
+#include "cli/selection_args.hpp"
+#include "core/errors.hpp"
+#include "core/front.hpp"
+#include "core/query.hpp"
+#include "io/archive_file.hpp"
+#include "io/table_output.hpp"
+
+namespace tessera::cli {
+namespace {
+
+struct FrontOptions {
+  std::string archive;
+  std::vector<std::string> objectives;
+  std::vector<std::string> within;
+  std::string format = "text";
+};
+
+int run_front(const FrontOptions& o) {
+  if (o.objectives.size() < 2)
+    throw InputError("front: give two or more --objective NAME:min|max (NAME is fitness or a "
+                     "descriptor name)");
+  const ArchiveSnapshot s = read_archive_file(o.archive);
+  const auto named = parse_objectives(o.objectives, s, o.archive);
+  EliteFilter filter;
+  filter.within = parse_within(o.within, s, o.archive);
+  const auto rows = filter_elites(s, filter);
+  if (rows.empty())
+    throw InputError(o.archive + ": no elite satisfies the constraints (" +
+                     describe_filter(filter, s) + "); the archive holds " +
+                     std::to_string(s.elite_count()) + " elites");
+  std::vector<Objective> objectives;
+  for (const auto& n : named) objectives.push_back(n.objective);
+  const auto front = elite_front(s, rows, objectives);
+
+  Table table;
+  table.list_key = "front";
+  nlohmann::json header = nlohmann::json::array();
+  std::vector<std::string> objective_names;
+  for (const auto& n : named) {
+    header.push_back({{"name", n.name}, {"goal", n.objective.goal == Goal::minimize ? "min" : "max"}});
+    objective_names.push_back(n.name);
+  }
+  table.header["objectives"] = header;
+  table.header["candidates"] = rows.size();
+  std::vector<std::string> genome_parts;
+  for (std::size_t i = 0; i < s.genome_size(); ++i) genome_parts.push_back(std::to_string(i));
+  table.columns = {{"rank", {}},
+                   {"cell", {}},
+                   {"objectives", objective_names, 8},
+                   {"fitness", {}},
+                   {"descriptor", s.descriptor_names, 8},
+                   {"genome", genome_parts, 4}};
+  const std::size_t d = s.descriptor_size(), g = s.genome_size();
+  for (std::size_t r = 0; r < front.size(); ++r) {
+    const std::size_t e = front[r];
+    std::vector<double> values;
+    for (const auto& objective : objectives) values.push_back(objective_value(s, e, objective));
+    table.rows.push_back(
+        {static_cast<std::int64_t>(r + 1), s.cell[e], values, s.fitness[e],
+         std::vector<double>(s.descriptor.begin() + e * d, s.descriptor.begin() + (e + 1) * d),
+         std::vector<double>(s.genome.begin() + e * g, s.genome.begin() + (e + 1) * g)});
+  }
+  write_table(std::cout, table, o.format);
+  return 0;
+}
+
+}  // namespace
+
+void register_front(CLI::App& app) {
+  auto o = std::make_shared<FrontOptions>();
+  auto* cmd = app.add_subcommand(
+      "front",
+      "Print the trade-off front: the elites no other elite beats on every objective at once\n"
+      "(each objective is the fitness or a descriptor, minimised or maximised), among those\n"
+      "within the constraints; sorted by the first objective, best first.");
+  cmd->add_option("ARCHIVE", o->archive, "archive file (.h5) written by tessera")->required();
+  cmd->add_option("--objective", o->objectives,
+                  "NAME:min or NAME:max, NAME = fitness or a descriptor name; two or more")
+      ->required();
+  cmd->add_option("--within", o->within,
+                  "only elites with LO <= descriptor NAME <= HI; NAME=LO:HI, repeatable");
+  cmd->add_option("--format", o->format, "text (default), json or csv")
+      ->check(CLI::IsMember({"text", "json", "csv"}));
+  cmd->callback([o] { throw CLI::RuntimeError(run_front(*o)); });
+}
+
+}  // namespace tessera::cli

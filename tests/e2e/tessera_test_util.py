@@ -1,0 +1,58 @@
+"""Helpers shared by the end-to-end tests: run the real tessera executable on real files."""
+import os
+import subprocess
+import sys
+import tempfile
+
+TESSERA = os.environ.get("TESSERA", "tessera")
+SOURCE = os.environ.get("TESSERA_SOURCE_DIR", os.path.abspath(os.path.join(os.path.dirname(__file__), "..", "..")))
+
+
+def run(*args, check=True, **kw):
+    """Runs tessera with args; returns the CompletedProcess (text mode)."""
+    proc = subprocess.run([TESSERA, *map(str, args)], capture_output=True, text=True, **kw)
+    if check and proc.returncode != 0:
+        sys.stderr.write(proc.stdout + proc.stderr)
+        raise AssertionError(f"tessera {' '.join(map(str, args))} exited {proc.returncode}")
+    return proc
+
+
+def problem(name):
+    return os.path.join(SOURCE, "problems", name)
+
+
+def tempdir():
+    return tempfile.mkdtemp(prefix="tessera-test-")
+
+
+def read_archive(path):
+    """Every dataset and attribute of an archive as numpy arrays / python values (h5py)."""
+    import h5py
+    out = {}
+    with h5py.File(path, "r") as f:
+        def visit(name, obj):
+            if isinstance(obj, h5py.Dataset):
+                out[name] = obj[()]
+        f.visititems(visit)
+        for key, value in f.attrs.items():
+            out["@" + key] = value
+        for group in ("space", "history"):
+            for key, value in f[group].attrs.items():
+                out[f"{group}@{key}"] = value
+    return out
+
+
+def assert_same_run(a, b, skip_attrs=("@tool_version",)):
+    """Elites, history and space bit-identical between two archives read by read_archive."""
+    import numpy as np
+    keys = sorted(k for k in set(a) | set(b) if k not in skip_attrs)
+    for key in keys:
+        assert key in a and key in b, f"{key} missing in one archive"
+        va, vb = a[key], b[key]
+        if isinstance(va, np.ndarray):
+            assert va.shape == vb.shape, f"{key}: shapes {va.shape} vs {vb.shape}"
+            assert va.dtype == vb.dtype, f"{key}: dtypes differ"
+            # Bit-identical: compare the raw bytes, not approximately.
+            assert va.tobytes() == vb.tobytes(), f"{key}: values differ"
+        else:
+            assert va == vb, f"{key}: {va!r} vs {vb!r}"
