@@ -12,6 +12,7 @@
 #include <tessera/plugin.h>
 
 #include <cmath>
+#include <cstdio>
 #include <exception>
 #include <memory>
 #include <numbers>
@@ -113,8 +114,10 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
     }
     auto& m = instance->metadata;
     m.name = kName;
-    m.summary = "six-legged walker (MuJoCo), open-loop periodic gait: duty factor per leg, "
-                "fitness = distance along +x in " + std::to_string(s.duration) + " s";
+    char seconds[32];
+    std::snprintf(seconds, sizeof seconds, "%g", s.duration);
+    m.summary = std::string("six-legged walker (MuJoCo), open-loop periodic gait: duty factor "
+                            "per leg, fitness = distance along +x in ") + seconds + " s";
     std::string damage;
     for (std::size_t leg = 0; leg < gait::kLegs; ++leg)
       if (s.leg_length_scale[leg] != 1.0)

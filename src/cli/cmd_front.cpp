@@ -43,7 +43,7 @@ int run_front(const FrontOptions& o) {
 
   Table table;
   table.list_key = "front";
-  nlohmann::json header = nlohmann::json::array();
+  nlohmann::ordered_json header = nlohmann::ordered_json::array();
   std::vector<std::string> objective_names;
   for (const auto& n : named) {
     header.push_back({{"name", n.name}, {"goal", n.objective.goal == Goal::minimize ? "min" : "max"}});

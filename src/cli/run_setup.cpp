@@ -39,11 +39,7 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
                         const ArchiveSnapshot* saved) {
   PreparedRun run;
   config.problem.log_path = log_path;
-  try {
-    run.problem = open_problem(config.problem);
-  } catch (const InputError& e) {
-    throw InputError(config.source + ": [problem] " + e.what());
-  }
+  run.problem = open_problem(config.problem);  // its errors name the run file already
   const ProblemInfo& info = run.problem->info();
   std::shared_ptr<const DescriptorSpace> space;
   // Population searches save an unstructured archive; their reference space (the [space] of

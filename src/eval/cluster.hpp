@@ -37,9 +37,9 @@ int size();
 // Evaluator ranks: serve batches until the coordinator says stop. Returns the exit code.
 int serve(const ProblemOpener& open);
 
-// Coordinator: an EvaluateFn spreading each batch over the evaluator ranks. The first call
-// sends `setup` to every evaluator rank.
-EvaluateFn distributed_evaluator(WorkerSetup setup);
+// Coordinator: an EvaluateFn spreading each batch over the evaluator ranks (all of them, or
+// the first `evaluator_ranks`, for benchmarks). The first call sends `setup` to every rank.
+EvaluateFn distributed_evaluator(WorkerSetup setup, int evaluator_ranks = 0);
 
 // Coordinator: tells the evaluator ranks to stop, then finalises MPI. Safe to call twice.
 void finish();

@@ -13,7 +13,7 @@ bool active() { return false; }
 int rank() { return 0; }
 int size() { return 1; }
 int serve(const ProblemOpener&) { return 0; }
-EvaluateFn distributed_evaluator(WorkerSetup) {
+EvaluateFn distributed_evaluator(WorkerSetup, int) {
   throw std::logic_error("this tessera was built without MPI");
 }
 void finish() {}

@@ -21,7 +21,6 @@ enum Tag : int { kSetup = 1, kWork = 2, kResult = 3, kStop = 4, kFailure = 5 };
 
 bool g_initialised = false;
 bool g_finished = false;
-bool g_setup_sent = false;
 
 bool launched_by_mpirun() {
   for (const char* var : {"OMPI_COMM_WORLD_SIZE", "PMI_SIZE", "PMIX_RANK", "SLURM_PROCID"})
@@ -162,13 +161,16 @@ int serve(const ProblemOpener& open) {
   return 0;
 }
 
-EvaluateFn distributed_evaluator(WorkerSetup setup) {
-  const int ranks = size();
-  return [setup = std::move(setup), ranks](Batch& batch) {
-    if (!g_setup_sent) {
+EvaluateFn distributed_evaluator(WorkerSetup setup, int evaluator_ranks) {
+  const int ranks = evaluator_ranks > 0 ? std::min(size(), evaluator_ranks + 1) : size();
+  // Each evaluator sends its own setup once, so a later evaluator (another problem) replaces
+  // the ranks' problem.
+  auto setup_sent = std::make_shared<bool>(false);
+  return [setup = std::move(setup), ranks, setup_sent](Batch& batch) {
+    if (!*setup_sent) {
       const std::string packed = pack_setup(setup);
-      for (int r = 1; r < ranks; ++r) send_string(packed, r, kSetup);
-      g_setup_sent = true;
+      for (int r = 1; r < size(); ++r) send_string(packed, r, kSetup);
+      *setup_sent = true;
     }
     const std::size_t workers = static_cast<std::size_t>(ranks - 1);
     if (batch.count == 0) return;

@@ -69,10 +69,11 @@ void write_table_text(std::ostream& out, const Table& t) {
 }
 
 void write_table_json(std::ostream& out, const Table& t) {
-  nlohmann::json doc = t.header.is_object() ? t.header : nlohmann::json::object();
-  nlohmann::json list = nlohmann::json::array();
+  // Keys keep the order of the columns, so the document reads like the table.
+  nlohmann::ordered_json doc = t.header.is_object() ? t.header : nlohmann::ordered_json::object();
+  nlohmann::ordered_json list = nlohmann::ordered_json::array();
   for (const auto& row : t.rows) {
-    nlohmann::json item = nlohmann::json::object();
+    nlohmann::ordered_json item = nlohmann::ordered_json::object();
     for (std::size_t j = 0; j < t.columns.size(); ++j)
       std::visit([&](const auto& v) { item[t.columns[j].name] = v; }, row[j]);
     list.push_back(std::move(item));
@@ -82,13 +83,15 @@ void write_table_json(std::ostream& out, const Table& t) {
 }
 
 void write_table_csv(std::ostream& out, const Table& t) {
-  std::string header;
+  std::vector<std::string> names;
   for (const auto& c : t.columns) {
-    if (c.parts.empty()) {
-      header += (header.empty() ? "" : ",") + csv_field(c.name);
-    } else {
-      for (const auto& p : c.parts) header += (header.empty() ? "" : ",") + csv_field(c.name + "." + p);
-    }
+    if (c.parts.empty()) names.push_back(csv_field(c.name));
+    for (const auto& p : c.parts) names.push_back(csv_field(c.name + "." + p));
+  }
+  std::string header;
+  for (std::size_t k = 0; k < names.size(); ++k) {
+    if (k) header += ',';
+    header += names[k];
   }
   out << header << "\n";
   for (const auto& row : t.rows) {
@@ -111,7 +114,10 @@ void write_table_csv(std::ostream& out, const Table& t) {
       }
     }
     std::string line;
-    for (std::size_t k = 0; k < fields.size(); ++k) line += (k ? "," : "") + fields[k];
+    for (std::size_t k = 0; k < fields.size(); ++k) {
+      if (k) line += ',';
+      line += fields[k];
+    }
     out << line << "\n";
   }
 }

@@ -128,7 +128,7 @@ TEST_CASE("transmission_limit = 40 makes the rule a feasibility constraint", "[l
   const auto r = evaluate(*ruled, genomes);
   CHECK(f.valid == std::vector<unsigned char>{1, 1});
   CHECK(r.valid == std::vector<unsigned char>{1, 0});
-  CHECK(r.extras[3] == lk::kTransmission);
+  CHECK(r.extras[3] == static_cast<double>(lk::kTransmission));
   CHECK(r.extras[4] == Approx(38.6).margin(0.1));  // measured even though refused
   CHECK(r.fitness[0] == f.fitness[0]);
 }
