@@ -4,8 +4,8 @@
 // file for scale. Medians of 3 repeats.
 // Usage: bench_archive_io [ELITES [GENOME [REPEATS [FOLDER]]]]
 #include <fcntl.h>
-#include <sys/resource.h>
 #include <stdlib.h>
+#include <sys/resource.h>
 #include <unistd.h>
 
 #include <algorithm>

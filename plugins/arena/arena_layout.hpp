@@ -23,7 +23,7 @@
 #include <string>
 #include <vector>
 
-#include "arena/arena_geometry.hpp"
+#include "arena_geometry.hpp"
 
 namespace tessera::arena {
 

@@ -16,101 +16,16 @@
 #include <memory>
 #include <string>
 
-#include "arena/arena_layout.hpp"
-#include "arena/arena_sim.hpp"
+#include "arena/arena_options.hpp"
 #include "common/plugin_glue.hpp"
 
 namespace glue = tessera::plugin_glue;
 namespace arena = tessera::arena;
+using arena::ArenaOptions;
 
 namespace {
 
 constexpr const char* kName = "arena";
-
-// Used when no layout is given, so that the problem can be listed and tried without files.
-constexpr const char* kBuiltInLayout =
-    "arena 10 10\n"
-    "start 2 2 45\n"
-    "goal 8 8 0.5\n";
-
-double number_option(const toml::table& options, std::string_view key, double fallback,
-                     double min, double max) {
-  const toml::node* node = options.get(key);
-  if (node == nullptr) return fallback;
-  const auto value = node->value<double>();
-  if (!value || !std::isfinite(*value))
-    throw glue::OptionError("option '" + std::string(key) + "' must be a number");
-  if (*value < min || *value > max)
-    throw glue::OptionError("option '" + std::string(key) + "' = " + std::to_string(*value) +
-                            " is out of range [" + std::to_string(min) + ", " +
-                            std::to_string(max) + "]");
-  return *value;
-}
-
-bool bool_option(const toml::table& options, std::string_view key, bool fallback) {
-  const toml::node* node = options.get(key);
-  if (node == nullptr) return fallback;
-  const auto value = node->value_exact<bool>();
-  if (!value) throw glue::OptionError("option '" + std::string(key) + "' must be true or false");
-  return *value;
-}
-
-struct ArenaOptions {
-  std::string layout_path;  // empty: built in
-  arena::RobotSettings robot;
-  double weight_bound = 3.0;
-};
-
-ArenaOptions read_options(const char* text) {
-  const toml::table table = glue::parse_options(text);
-  glue::check_keys(table, {"layout", "radius", "wheel_base", "max_speed", "dt", "duration", "rays",
-                           "fan", "range", "hidden", "recurrent", "weight_bound", "raster",
-                           "stop_at_goal", "samples", "trace"});
-  ArenaOptions o;
-  if (const toml::node* node = table.get("layout")) {
-    const auto path = node->value_exact<std::string>();
-    if (!path || path->empty()) throw glue::OptionError("option 'layout' must be a file path");
-    o.layout_path = *path;
-  }
-  auto& r = o.robot;
-  r.radius = number_option(table, "radius", 0.25, 1e-3, 1e3);
-  r.wheel_base = number_option(table, "wheel_base", 2.0 * r.radius, 1e-3, 1e3);
-  r.max_speed = number_option(table, "max_speed", 1.0, 1e-6, 1e6);
-  r.dt = number_option(table, "dt", 0.2, 1e-4, 1e3);
-  r.duration = number_option(table, "duration", 40.0, 1e-4, 1e6);
-  if (r.steps() < 1 || r.steps() > 10'000'000)
-    throw glue::OptionError("duration / dt must give between 1 and 10^7 steps");
-  r.rays = static_cast<std::size_t>(glue::integer_option(table, "rays", 5, 0, 64));
-  r.fan = number_option(table, "fan", 180.0, 0.0, 360.0);
-  r.range = number_option(table, "range", 3.0, 1e-3, 1e6);
-  r.hidden = static_cast<std::size_t>(glue::integer_option(table, "hidden", 5, 0, 256));
-  r.recurrent = bool_option(table, "recurrent", false);
-  if (r.recurrent && r.hidden == 0)
-    throw glue::OptionError("option 'recurrent' needs hidden units (hidden >= 1)");
-  r.raster = number_option(table, "raster", 0.2, 1e-3, 1e6);
-  r.stop_at_goal = bool_option(table, "stop_at_goal", true);
-  r.samples = static_cast<std::size_t>(glue::integer_option(table, "samples", 1, 1, 64));
-  r.trace = static_cast<std::size_t>(glue::integer_option(table, "trace", 0, 0, 100000));
-  if (r.samples > r.steps() || r.trace > r.steps())
-    throw glue::OptionError("samples and trace must not exceed the number of steps");
-  o.weight_bound = number_option(table, "weight_bound", 3.0, 1e-6, 1e6);
-  return o;
-}
-
-arena::Layout read_layout(const ArenaOptions& o) {
-  arena::Layout layout = o.layout_path.empty()
-                             ? arena::parse_layout(kBuiltInLayout, "built-in layout")
-                             : arena::load_layout(o.layout_path);
-  const std::string source = o.layout_path.empty() ? "built-in layout" : o.layout_path;
-  for (const auto& wall : layout.walls)
-    if (arena::point_segment_distance(layout.start, wall) < o.robot.radius)
-      throw arena::LayoutError(source + ": the robot (radius " + std::to_string(o.robot.radius) +
-                               ") overlaps a wall at its start position");
-  // The raster must stay a sensible size.
-  const double cells = std::ceil(layout.width / o.robot.raster) * std::ceil(layout.height / o.robot.raster);
-  if (cells > 1e8) throw glue::OptionError("option 'raster' is too fine for this arena (over 10^8 cells)");
-  return layout;
-}
 
 }  // namespace
 
@@ -129,9 +44,9 @@ TSR_EXPORT const char* tsr_problem_name(void) { return kName; }
 TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_t error_size) {
   try {
     auto instance = std::make_unique<tsr_instance>();
-    instance->options = read_options(options_toml);
+    instance->options = arena::read_options(options_toml);
     const auto& o = instance->options;
-    instance->sim = std::make_unique<arena::Simulator>(read_layout(o), o.robot);
+    instance->sim = std::make_unique<arena::Simulator>(arena::read_layout(o), o.robot);
     const arena::Layout& layout = instance->sim->layout();
     auto& m = instance->metadata;
     m.name = kName;

@@ -10,7 +10,7 @@
 #include <span>
 #include <vector>
 
-#include "arena/arena_geometry.hpp"
+#include "arena_geometry.hpp"
 
 namespace tessera::arena {
 

@@ -9,7 +9,7 @@
 #include <numbers>
 #include <span>
 
-#include "arena/arena_geometry.hpp"
+#include "arena_geometry.hpp"
 
 namespace tessera::arena {
 

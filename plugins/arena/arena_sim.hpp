@@ -12,11 +12,11 @@
 #include <span>
 #include <vector>
 
-#include "arena/arena_controller.hpp"
-#include "arena/arena_geometry.hpp"
-#include "arena/arena_layout.hpp"
-#include "arena/arena_raster.hpp"
-#include "arena/arena_robot.hpp"
+#include "arena_controller.hpp"
+#include "arena_geometry.hpp"
+#include "arena_layout.hpp"
+#include "arena_raster.hpp"
+#include "arena_robot.hpp"
 
 namespace tessera::arena {
 
@@ -32,7 +32,7 @@ struct RobotSettings {
   std::size_t hidden = 5;     // hidden tanh units (0: inputs drive the wheels directly)
   bool recurrent = false;     // Elman context units
   double raster = 0.2;        // m, cell side for area covered
-  bool stop_at_goal = true;   // the episode ends when the goal is reached
+  bool stop_at_goal = false;  // end the episode when the goal is reached
   std::size_t samples = 1;    // positions in the descriptor (evenly spaced in time, last = final)
   std::size_t trace = 0;      // positions reported as extras (for drawings)
 

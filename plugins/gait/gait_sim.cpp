@@ -147,13 +147,12 @@ void HexapodSim::apply_damage() {
     m->actuator_forcerange[2 * a + 1] *= s;
   }
   if (settings_.stuck_joint >= 0) {
-    // The joint is locked by its own limits at the stuck angle, and starts there.
+    // The joint is locked by its own limits at the stuck angle (evaluate() starts it there).
+    // qpos0 stays: MuJoCo measures hinge angles from it, so moving it would move the zero.
     const int j = joint_[static_cast<std::size_t>(settings_.stuck_joint)];
     m->jnt_range[2 * j] = settings_.stuck_angle;
     m->jnt_range[2 * j + 1] = settings_.stuck_angle;
-    m->qpos0[m->jnt_qposadr[j]] = settings_.stuck_angle;
   }
-  if (settings_.start_height) m->qpos0[root_qpos_ + 2] = *settings_.start_height;
   // Recompute the constants MuJoCo derives from masses and the default pose.
   mj_setConst(m, data_);
 }
@@ -173,6 +172,10 @@ GaitResult HexapodSim::evaluate(const double* genome) {
   }
 
   mj_resetData(m, d);
+  if (settings_.stuck_joint >= 0)
+    d->qpos[m->jnt_qposadr[joint_[static_cast<std::size_t>(settings_.stuck_joint)]]] =
+        settings_.stuck_angle;
+  if (settings_.start_height) d->qpos[root_qpos_ + 2] = *settings_.start_height;
   mj_forward(m, d);
   const double x0 = d->xpos[3 * torso_body_];
   const auto steps = static_cast<long>(std::llround(settings_.duration / m->opt.timestep));

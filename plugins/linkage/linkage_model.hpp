@@ -33,12 +33,12 @@ enum GenomeIndex : std::size_t {
 };
 
 struct Dimensions {
-  double ground = 0.0;          // d, O2-O4
-  double crank = 0.0;           // a, O2-A (input, turns fully in a crank-rocker)
-  double coupler = 0.0;         // b, A-B
-  double rocker = 0.0;          // c, O4-B (output, oscillates)
-  double point_distance = 0.0;  // p, A-P
-  double point_angle_deg = 0.0; // gamma, angle of A->P off A->B
+  double ground = 0.0;           // d, O2-O4
+  double crank = 0.0;            // a, O2-A (input, turns fully in a crank-rocker)
+  double coupler = 0.0;          // b, A-B
+  double rocker = 0.0;           // c, O4-B (output, oscillates)
+  double point_distance = 0.0;   // p, A-P
+  double point_angle_deg = 0.0;  // gamma, angle of A->P off A->B
 
   static Dimensions from_genome(const double* g) {
     return {g[kGround], g[kCrank], g[kCoupler], g[kRocker], g[kPointDistance], g[kPointAngle]};
@@ -90,11 +90,11 @@ inline bool crank_is_shortest(const Dimensions& m) {
 
 // Joint positions at one crank angle.
 struct Pose {
-  double crank_angle = 0.0;  // theta2, radians
-  double ax = 0.0, ay = 0.0; // crank pin A
-  double bx = 0.0, by = 0.0; // rocker pin B
-  double px = 0.0, py = 0.0; // coupler point P
-  double cos_mu = 0.0;       // cosine of the transmission angle (between B->A and B->O4)
+  double crank_angle = 0.0;   // theta2, radians
+  double ax = 0.0, ay = 0.0;  // crank pin A
+  double bx = 0.0, by = 0.0;  // rocker pin B
+  double px = 0.0, py = 0.0;  // coupler point P
+  double cos_mu = 0.0;        // cosine of the transmission angle (between B->A and B->O4)
   double transmission_angle_deg() const {
     return std::acos(std::clamp(cos_mu, -1.0, 1.0)) / kRadPerDeg;
   }
@@ -160,7 +160,7 @@ struct Flattest {
 
 // Buffers for flattest_part, reused across calls so that an evaluation allocates nothing.
 struct FlatWorkspace {
-  std::vector<double> x, y;                     // the path twice over, about its centroid
+  std::vector<double> x, y;                        // the path twice over, about its centroid
   std::vector<double> sx, sy, sxx, syy, sxy, arc;  // prefix sums over the doubled path
   std::vector<double> bound, axis;                 // per run: ratio lower bound, line angle
   std::vector<std::size_t> order;                  // runs by increasing bound
@@ -239,8 +239,9 @@ inline Flattest flattest_part(const double* x, const double* y, std::size_t n, s
       across_max = std::max(across_max, across);
       // The band only grows, and the length grows by at most the arc still ahead: stop as soon
       // as this run cannot beat the best one.
-      if ((k - s) % 16 == 15 && across_max - across_min >
-                                    best.ratio * (along_max - along_min + ws.arc[e] - ws.arc[k + 1])) {
+      if ((k - s) % 16 == 15 &&
+          across_max - across_min >
+              best.ratio * (along_max - along_min + ws.arc[e] - ws.arc[k + 1])) {
         beaten = true;
         break;
       }
@@ -248,13 +249,13 @@ inline Flattest flattest_part(const double* x, const double* y, std::size_t n, s
     if (beaten) continue;
     const double length = along_max - along_min, band = across_max - across_min;
     const double ratio = length > 0.0 ? band / length : std::numeric_limits<double>::infinity();
-    if (ratio < best.ratio || (ratio == best.ratio && s < best.start)) best = {ratio, band, length, s};
+    if (ratio < best.ratio || (ratio == best.ratio && s < best.start))
+      best = {ratio, band, length, s};
   }
   return best;
 }
 
-inline Flattest flattest_part(const double* x, const double* y, std::size_t n,
-                              std::size_t window) {
+inline Flattest flattest_part(const double* x, const double* y, std::size_t n, std::size_t window) {
   FlatWorkspace ws;
   return flattest_part(x, y, n, window, ws);
 }
@@ -264,9 +265,9 @@ enum Reason : int {
   kFeasible = 0,
   kNotGrashof = 1,        // s + l > p + q: no link turns fully
   kCrankNotShortest = 2,  // Grashof, but the input crank is not the shortest link
-  kLoopOpen = 3,          // the loop fails to close at a sampled angle (rounding near s + l = p + q)
-  kTransmission = 4,      // the transmission angle leaves [limit, 180 - limit] (rule enabled)
-  kBadLength = 5          // a link length is not a positive finite number
+  kLoopOpen = 3,      // the loop fails to close at a sampled angle (rounding near s + l = p + q)
+  kTransmission = 4,  // the transmission angle leaves [limit, 180 - limit] (rule enabled)
+  kBadLength = 5      // a link length is not a positive finite number
 };
 
 struct Settings {
@@ -279,12 +280,12 @@ struct Settings {
 
 struct Evaluation {
   int reason = kFeasible;
-  double fitness = 0.0;      // 90 - max |mu - 90| over the cycle, degrees, in [0, 90]
-  double width = 0.0;        // extent of the coupler path along the ground line
-  double height = 0.0;       // extent across it
-  double mu_min_deg = 0.0;   // smallest and largest transmission angle over the cycle
+  double fitness = 0.0;     // 90 - max |mu - 90| over the cycle, degrees, in [0, 90]
+  double width = 0.0;       // extent of the coupler path along the ground line
+  double height = 0.0;      // extent across it
+  double mu_min_deg = 0.0;  // smallest and largest transmission angle over the cycle
   double mu_max_deg = 0.0;
-  Flattest flattest;         // only when settings.straightness
+  Flattest flattest;  // only when settings.straightness
 };
 
 // Evaluates genomes under fixed settings; keeps the crank-angle table and the path buffers so
@@ -361,8 +362,8 @@ class Evaluator {
     e.width = x_max - x_min;
     e.height = y_max - y_min;
     if (settings_.straightness) {
-      const auto window = static_cast<std::size_t>(
-          std::lround(settings_.straight_share * static_cast<double>(n)));
+      const auto window =
+          static_cast<std::size_t>(std::lround(settings_.straight_share * static_cast<double>(n)));
       e.flattest = flattest_part(px_.data(), py_.data(), n, window, flat_);
     }
     if (settings_.transmission_limit_deg > 0.0 &&

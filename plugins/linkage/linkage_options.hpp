@@ -17,12 +17,12 @@
 //   straightness_max   upper descriptor bound of the straightness (band / length, default 0.05)
 #pragma once
 
+#include <toml++/toml.h>
 #include <cmath>
 #include <cstddef>
 #include <initializer_list>
 #include <string>
 #include <string_view>
-#include <toml++/toml.h>
 
 #include "../common/plugin_glue.hpp"
 #include "linkage_model.hpp"
@@ -50,7 +50,9 @@ struct Options {
   Settings settings;
 };
 
-inline const char* to_string(Branch branch) { return branch == Branch::open ? "open" : "crossed"; }
+inline const char* to_string(Branch branch) {
+  return branch == Branch::open ? "open" : "crossed";
+}
 
 namespace detail {
 
@@ -140,9 +142,9 @@ inline Options read_options(const toml::table& t) {
   o.point_angle = range_option(t, "point_angle", o.point_angle, -360.0, 360.0);
   o.path_width = range_option(t, "path_width", o.path_width, 0.0, kHuge);
   o.path_height = range_option(t, "path_height", o.path_height, 0.0, kHuge);
-  o.settings.branch =
-      choice_option(t, "branch", "open", {"open", "crossed"}) == "open" ? Branch::open
-                                                                         : Branch::crossed;
+  o.settings.branch = choice_option(t, "branch", "open", {"open", "crossed"}) == "open"
+                          ? Branch::open
+                          : Branch::crossed;
   o.settings.samples =
       static_cast<std::size_t>(plugin_glue::integer_option(t, "samples", 360, 36, 100000));
   // Below 90: at 90 no linkage could pass; the rule is meant as 40 (common practice).

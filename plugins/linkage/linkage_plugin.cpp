@@ -36,9 +36,13 @@ struct tsr_instance {
 
 extern "C" {
 
-TSR_EXPORT uint32_t tsr_abi_version(void) { return TSR_ABI_VERSION; }
+TSR_EXPORT uint32_t tsr_abi_version(void) {
+  return TSR_ABI_VERSION;
+}
 
-TSR_EXPORT const char* tsr_problem_name(void) { return kName; }
+TSR_EXPORT const char* tsr_problem_name(void) {
+  return kName;
+}
 
 TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_t error_size) {
   try {
@@ -49,12 +53,13 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
     auto& m = instance->metadata;
     m.name = kName;
     m.summary = "four-bar crank-rocker (" + std::string(model::to_string(o.settings.branch)) +
-                " branch, lengths in " + o.units +
-                "): coupler-path size, fitness = worst transmission angle";
-    m.genome_lower = {o.ground.lower,  o.crank.lower,          o.coupler.lower,
-                      o.rocker.lower,  o.point_distance.lower, o.point_angle.lower};
-    m.genome_upper = {o.ground.upper,  o.crank.upper,          o.coupler.upper,
-                      o.rocker.upper,  o.point_distance.upper, o.point_angle.upper};
+                " branch, lengths in " + o.units + "): coupler-path size" +
+                (o.settings.straightness ? " and straightness" : "") +
+                ", fitness = worst transmission angle";
+    m.genome_lower = {o.ground.lower, o.crank.lower,          o.coupler.lower,
+                      o.rocker.lower, o.point_distance.lower, o.point_angle.lower};
+    m.genome_upper = {o.ground.upper, o.crank.upper,          o.coupler.upper,
+                      o.rocker.upper, o.point_distance.upper, o.point_angle.upper};
     m.descriptor_lower = {o.path_width.lower, o.path_height.lower};
     m.descriptor_upper = {o.path_width.upper, o.path_height.upper};
     m.descriptor_names = {"path_width", "path_height"};
@@ -115,6 +120,8 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
   return TSR_OK;
 }
 
-TSR_EXPORT void tsr_destroy(tsr_instance* instance) { delete instance; }
+TSR_EXPORT void tsr_destroy(tsr_instance* instance) {
+  delete instance;
+}
 
 }  // extern "C"

@@ -38,14 +38,17 @@ std::string list(const std::vector<double>& values, std::size_t shown) {
 
 void print_text(std::ostream& out, const ArchiveSummary& s) {
   const auto row = [&](const std::string& key, const std::string& value) {
-    out << "  " << key << std::string(key.size() < 14 ? 14 - key.size() : 1, ' ') << value << "\n";
+    // Pad by characters, not bytes: descriptor names may be UTF-8.
+    std::size_t width = 0;
+    for (unsigned char c : key) width += (c & 0xC0) != 0x80;
+    out << "  " << key << std::string(width < 14 ? 14 - width : 1, ' ') << value << "\n";
   };
   out << s.file << "\n";
   row("problem", s.problem);
   row("written by", "tessera " + s.tool_version);
   row("seed", std::to_string(s.seed));
-  std::string space = s.space_kind + ", " + with_thousands(static_cast<std::uint64_t>(s.cells)) +
-                      " cells";
+  std::string space =
+      s.space_kind + ", " + with_thousands(static_cast<std::uint64_t>(s.cells)) + " cells";
   if (!s.resolution.empty()) {
     std::string res;
     for (std::size_t i = 0; i < s.resolution.size(); ++i)
@@ -86,7 +89,7 @@ void print_text(std::ostream& out, const ArchiveSummary& s) {
 int run_inspect(const InspectOptions& o) {
   const ArchiveSummary summary = summarize_archive(read_archive_file(o.archive), o.archive);
   if (o.format == "json") {
-    std::cout << nlohmann::json(summary).dump(2) << "\n";
+    std::cout << nlohmann::ordered_json(summary).dump(2) << "\n";
   } else {
     print_text(std::cout, summary);
   }

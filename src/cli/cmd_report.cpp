@@ -9,7 +9,9 @@
 #include "cli/selection_args.hpp"
 #include "core/errors.hpp"
 #include "io/archive_file.hpp"
+#include "report/arena_panels.hpp"
 #include "report/html_report.hpp"
+#include "report/linkage_panels.hpp"
 
 namespace tessera::cli {
 namespace {
@@ -45,6 +47,9 @@ int run_report(const ReportOptions& o) {
   settings.front_filter.within = parse_within(o.within, s, o.archive);
   settings.front_filter_text = describe_filter(settings.front_filter, s);
 
+  settings.extra_panels = linkage_panels(s, o.archive);  // empty unless a linkage archive
+  for (auto& panel : arena_panels(s, o.archive))  // empty unless an arena archive
+    settings.extra_panels.push_back(std::move(panel));
   const auto files = build_report(s, settings);
   write_report_files(o.out_dir, files);
   std::cout << "report: " << o.out_dir << "/index.html (" << files.size() << " files)\n";

@@ -13,8 +13,12 @@ namespace tessera {
 
 class NearestCentroid {
  public:
-  // Copies the centroids (row-major [K * dims]); K >= 1, K < 2^32.
-  NearestCentroid(std::span<const double> centroids, std::size_t dims);
+  enum class Method { automatic, scan, tree };
+
+  // Copies the centroids (row-major [K * dims]); K >= 1, K < 2^32. `automatic` scans when
+  // K <= scan_limit(dims), otherwise builds the tree; the others force one (for benchmarks).
+  NearestCentroid(std::span<const double> centroids, std::size_t dims,
+                  Method method = Method::automatic);
   ~NearestCentroid();
   NearestCentroid(NearestCentroid&&) noexcept;
   NearestCentroid& operator=(NearestCentroid&&) noexcept;
@@ -46,8 +50,9 @@ class NearestCentroid {
   std::size_t dimensions() const { return dims_; }
   bool uses_tree() const { return tree_ != nullptr; }
 
-  // Below this many centroids a scan beats the tree (measured with bench/cvt_build).
-  static constexpr std::size_t kScanLimit = 48;
+  // Up to this many centroids a scan beats the tree: about 32 per dimension (measured with
+  // bench/cvt_build for 2 to 6 dimensions).
+  static constexpr std::size_t scan_limit(std::size_t dims) { return 32 * dims; }
 
   struct Tree;  // defined in nearest.cpp
 

@@ -58,16 +58,16 @@ class OrderedNearest {
 
   std::size_t size() const { return items_.size(); }
   bool full() const { return items_.size() == k_; }
-  double worstDist() const {
-    if (!full()) return std::numeric_limits<double>::infinity();
-    const double w = items_.back().first;
-    return std::nextafter(w * (1.0 + 1e-12), std::numeric_limits<double>::infinity());
-  }
+  // Kept up to date by addPoint: the tree asks for it at every node it visits.
+  double worstDist() const { return worst_; }
   bool addPoint(double dist, std::uint32_t idx) {
     const std::pair<double, std::uint32_t> item{dist, idx};
     if (full() && !(item < items_.back())) return true;
     items_.insert(std::upper_bound(items_.begin(), items_.end(), item), item);
     if (items_.size() > k_) items_.pop_back();
+    if (full())
+      worst_ = std::nextafter(items_.back().first * (1.0 + 1e-12),
+                              std::numeric_limits<double>::infinity());
     return true;
   }
   const std::vector<std::pair<double, std::uint32_t>>& items() const { return items_; }
@@ -75,6 +75,7 @@ class OrderedNearest {
  private:
   std::size_t k_;
   std::vector<std::pair<double, std::uint32_t>> items_;
+  double worst_ = std::numeric_limits<double>::infinity();
 };
 
 double squared(const double* a, const double* b, std::size_t dims) {

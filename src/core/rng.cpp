@@ -1,7 +1,6 @@
 #include "core/rng.hpp"
 
 #include <cmath>
-#include <numbers>
 
 namespace tessera {
 namespace {
@@ -46,10 +45,22 @@ double Rng::uniform() { return static_cast<double>(next() >> 11) * 0x1.0p-53; }
 double Rng::uniform(double lo, double hi) { return lo + (hi - lo) * uniform(); }
 
 double Rng::normal() {
-  // Box-Muller; u1 in (0, 1] so the logarithm is finite.
-  const double u1 = 1.0 - uniform();
-  const double u2 = uniform();
-  return std::sqrt(-2.0 * std::log(u1)) * std::cos(2.0 * std::numbers::pi * u2);
+  // Marsaglia's polar method (Marsaglia & Bray 1964): two independent deviates per accepted
+  // pair of uniforms, with no trigonometric calls; the second is kept for the next call.
+  if (has_spare_) {
+    has_spare_ = false;
+    return spare_;
+  }
+  double u, v, s;
+  do {
+    u = 2.0 * uniform() - 1.0;
+    v = 2.0 * uniform() - 1.0;
+    s = u * u + v * v;
+  } while (s >= 1.0 || s == 0.0);
+  const double factor = std::sqrt(-2.0 * std::log(s) / s);
+  spare_ = v * factor;
+  has_spare_ = true;
+  return u * factor;
 }
 
 std::uint64_t Rng::below(std::uint64_t n) {

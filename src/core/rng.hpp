@@ -1,7 +1,7 @@
 // Counter-keyed random streams. Every draw of a run comes from a stream keyed by
 // (seed, batch, candidate[, purpose]), so results never depend on thread count or on where a run
 // was interrupted. Generator: xoshiro256** seeded through splitmix64 (Blackman & Vigna 2018).
-// Normal deviates use Box-Muller written here, because std::normal_distribution is
+// Normal deviates use Marsaglia's polar method written here, because std::normal_distribution is
 // implementation-defined and would break bit-identical archives across standard libraries.
 #pragma once
 
@@ -16,11 +16,13 @@ class Rng {
   std::uint64_t next();
   double uniform();                        // [0, 1)
   double uniform(double lo, double hi);    // [lo, hi)
-  double normal();                         // standard normal
+  double normal();                         // standard normal (polar method, pairs)
   std::uint64_t below(std::uint64_t n);    // uniform in [0, n), unbiased; n > 0
 
  private:
   std::uint64_t s_[4];
+  double spare_ = 0.0;     // second value of the last polar-method pair
+  bool has_spare_ = false;
 };
 
 // Distinct purposes drawing from the same (seed, batch, candidate) key.

@@ -42,7 +42,9 @@ constexpr std::size_t kWindow = 4;
 // A worker line longer than this without a newline is taken as garbage (protects memory).
 constexpr std::size_t kMaxLine = std::size_t{64} << 20;
 
-std::string errno_text(int error) { return std::strerror(error); }
+std::string errno_text(int error) {
+  return std::strerror(error);
+}
 
 // Worker text (error messages, garbage lines) shown on one line of tessera's stderr.
 std::string one_line(std::string_view text, std::size_t limit = 160) {
@@ -83,8 +85,10 @@ bool rewrite_non_finite(std::string_view line, std::string& out) {
     const char c = line[i];
     if (in_string) {
       out += c;
-      if (c == '\\' && i + 1 < line.size()) out += line[++i];
-      else if (c == '"') in_string = false;
+      if (c == '\\' && i + 1 < line.size())
+        out += line[++i];
+      else if (c == '"')
+        in_string = false;
       ++i;
       continue;
     }
@@ -114,7 +118,7 @@ struct Request {
   double* fitness = nullptr;
   double* descriptor = nullptr;
   unsigned char* valid = nullptr;
-  bool suspect = false;        // was held by a worker that crashed: retried once, alone
+  bool suspect = false;          // was held by a worker that crashed: retried once, alone
   std::uint64_t line_start = 0;  // offset of its line in the worker's stdin stream
   Job* job = nullptr;
 };
@@ -125,10 +129,10 @@ struct Worker {
   int out = -1;  // read end of the worker's stdout
   std::string write_buffer;
   std::string read_buffer;
-  std::deque<Request*> held;   // in the order sent: front is the oldest
+  std::deque<Request*> held;        // in the order sent: front is the oldest
   std::uint64_t bytes_queued = 0;   // request bytes handed to write_buffer since the start
   std::uint64_t bytes_written = 0;  // of which written into the pipe
-  Clock::time_point progress;  // last answer, or when the worker became busy
+  Clock::time_point progress;       // last answer, or when the worker became busy
 
   bool alive() const { return pid > 0; }
 };
@@ -147,8 +151,7 @@ class WorkerPool {
         workers_(spec.workers) {
     const std::string log = spec.log_path.empty() ? "/dev/null" : spec.log_path;
     log_fd_ = ::open(log.c_str(), O_WRONLY | O_CREAT | O_APPEND | O_CLOEXEC, 0644);
-    if (log_fd_ < 0)
-      throw InputError(log + ": cannot open the worker log: " + errno_text(errno));
+    if (log_fd_ < 0) throw InputError(log + ": cannot open the worker log: " + errno_text(errno));
     wake_fd_ = ::eventfd(0, EFD_CLOEXEC | EFD_NONBLOCK);
     if (wake_fd_ < 0) {
       ::close(log_fd_);
@@ -274,9 +277,10 @@ class WorkerPool {
     return "";
   }
 
-  // Ends a worker and collects its exit status. `grace` lets a worker that closed its stdout
-  // while exiting finish on its own, so that its real status is reported.
-  int stop(Worker& worker, Clock::duration grace) {
+  // Ends a worker and collects its exit status; answers it wrote before its end are still
+  // read. `grace` lets a worker that is exiting finish on its own, so that its real status is
+  // reported.
+  int stop(Worker& worker, Clock::duration grace, bool drain = false) {
     int status = 0;
     if (worker.alive()) {
       const auto until = Clock::now() + grace;
@@ -289,6 +293,7 @@ class WorkerPool {
         }
       }
     }
+    if (drain && worker.out >= 0) read_lines(worker);
     if (worker.in >= 0) ::close(worker.in);
     if (worker.out >= 0) ::close(worker.out);
     worker.pid = -1;
@@ -317,8 +322,7 @@ class WorkerPool {
       first = counts_[reason]++ == 0;
     }
     if (first)
-      std::fprintf(stderr,
-                   "tessera: worker '%s': %s (%s); further ones are counted, not shown\n",
+      std::fprintf(stderr, "tessera: worker '%s': %s (%s); further ones are counted, not shown\n",
                    label_.c_str(), reason.c_str(), detail.c_str());
   }
 
@@ -338,7 +342,7 @@ class WorkerPool {
 
   // A worker exited or closed its stdout: restart it and retry what it held.
   void on_crash(Worker& worker, const std::string& how) {
-    const int status = stop(worker, std::chrono::milliseconds(100));
+    const int status = stop(worker, std::chrono::milliseconds(100), true);
     const std::string detail = how + ", " + describe_status(status);
     if (worker.held.empty()) {
       note_event("worker exited while idle and was restarted", detail);
@@ -603,14 +607,16 @@ class WorkerPool {
       auto deadline = Clock::time_point::max();
       for (auto& worker : workers_) {
         fds.push_back(pollfd{worker.out, POLLIN, 0});
-        fds.push_back(pollfd{worker.write_buffer.empty() ? -1 : worker.in, POLLOUT, 0});
+        // Even with nothing to write, POLLERR tells that the worker closed its stdin.
+        fds.push_back(
+            pollfd{worker.in, static_cast<short>(worker.write_buffer.empty() ? 0 : POLLOUT), 0});
         if (!worker.held.empty()) deadline = std::min(deadline, worker.progress + timeout_);
       }
       int wait_ms = -1;
       if (deadline != Clock::time_point::max()) {
         const auto left = deadline - Clock::now();
-        wait_ms = static_cast<int>(std::max<std::int64_t>(
-            0, std::chrono::ceil<std::chrono::milliseconds>(left).count()));
+        wait_ms = static_cast<int>(
+            std::max<std::int64_t>(0, std::chrono::ceil<std::chrono::milliseconds>(left).count()));
       }
       if (::poll(fds.data(), fds.size(), wait_ms) < 0 && errno != EINTR)
         throw std::runtime_error("poll: " + errno_text(errno));  // cannot happen with valid fds
@@ -625,7 +631,7 @@ class WorkerPool {
         const pollfd& in = fds[2 + 2 * w];
         if ((out.revents & (POLLIN | POLLHUP | POLLERR)) && !read_lines(worker)) {
           on_crash(worker, "stdout closed");
-        } else if ((in.revents & (POLLOUT | POLLERR)) && !flush(worker)) {
+        } else if ((in.revents & POLLERR) || ((in.revents & POLLOUT) && !flush(worker))) {
           on_crash(worker, "stdin closed");
         }
         if (!fatal_empty()) return;

@@ -42,7 +42,10 @@ void ThreadEvaluator::release(std::unique_ptr<ProblemInstance> instance) {
 
 void ThreadEvaluator::evaluate(Batch& batch) {
   if (batch.count == 0) return;
-  const std::size_t chunks = (batch.count + kChunk - 1) / kChunk;
+  // About eight chunks per thread balance uneven evaluations while keeping per-chunk overhead
+  // (an instance from the pool, one plugin call) small next to cheap evaluations.
+  const std::size_t chunk = std::max(kChunk, batch.count / (8 * threads_));
+  const std::size_t chunks = (batch.count + chunk - 1) / chunk;
   std::exception_ptr failure;
   std::mutex failure_mutex;
   arena_->arena.execute([&] {
@@ -51,8 +54,8 @@ void ThreadEvaluator::evaluate(Batch& batch) {
                         auto instance = acquire();
                         try {
                           for (std::size_t c = range.begin(); c != range.end(); ++c) {
-                            const std::size_t first = c * kChunk;
-                            const std::size_t count = std::min(kChunk, batch.count - first);
+                            const std::size_t first = c * chunk;
+                            const std::size_t count = std::min(chunk, batch.count - first);
                             instance->evaluate(batch, first, count);
                           }
                         } catch (...) {

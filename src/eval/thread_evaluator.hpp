@@ -25,7 +25,7 @@ class ThreadEvaluator {
   std::size_t threads() const { return threads_; }
   const Problem& problem() const { return *problem_; }
 
-  // Candidates per chunk handed to one instance call (amortises per-call overhead).
+  // Smallest number of candidates handed to one instance call.
   static constexpr std::size_t kChunk = 16;
 
  private:

@@ -5,6 +5,7 @@
 
 #include <fcntl.h>
 #include <hdf5.h>
+#include <signal.h>
 #include <unistd.h>
 
 #include <tbb/parallel_for.h>
@@ -108,12 +109,24 @@ class Handle {
   Closer closer_ = nullptr;
 };
 
-Handle group_handle(hid_t id, const char* call) { return Handle(id, H5Gclose, call); }
-Handle dataset_handle(hid_t id, const char* call) { return Handle(id, H5Dclose, call); }
-Handle space_handle(hid_t id, const char* call) { return Handle(id, H5Sclose, call); }
-Handle type_handle(hid_t id, const char* call) { return Handle(id, H5Tclose, call); }
-Handle attr_handle(hid_t id, const char* call) { return Handle(id, H5Aclose, call); }
-Handle plist_handle(hid_t id, const char* call) { return Handle(id, H5Pclose, call); }
+Handle group_handle(hid_t id, const char* call) {
+  return Handle(id, H5Gclose, call);
+}
+Handle dataset_handle(hid_t id, const char* call) {
+  return Handle(id, H5Dclose, call);
+}
+Handle space_handle(hid_t id, const char* call) {
+  return Handle(id, H5Sclose, call);
+}
+Handle type_handle(hid_t id, const char* call) {
+  return Handle(id, H5Tclose, call);
+}
+Handle attr_handle(hid_t id, const char* call) {
+  return Handle(id, H5Aclose, call);
+}
+Handle plist_handle(hid_t id, const char* call) {
+  return Handle(id, H5Pclose, call);
+}
 
 template <class T>
 struct Hdf5Types;
@@ -203,8 +216,8 @@ Handle create_dataset(hid_t parent, const std::string& name, hid_t type, std::si
 
 // Compresses the chunks of `rows` rows on all threads, a batch at a time (bounded memory), and
 // hands the finished chunks to HDF5. The bytes are the same as HDF5's own filters would write.
-void write_chunks(hid_t ds, const unsigned char* data, std::uint64_t rows,
-                  std::uint64_t row_bytes, std::size_t element_size) {
+void write_chunks(hid_t ds, const unsigned char* data, std::uint64_t rows, std::uint64_t row_bytes,
+                  std::size_t element_size) {
   const std::uint64_t chunk_rows = chunk_rows_for(rows, row_bytes);
   const std::uint64_t chunk_bytes = chunk_rows * row_bytes;
   const std::uint64_t chunks = (rows + chunk_rows - 1) / chunk_rows;
@@ -339,6 +352,35 @@ void sync_folder(const std::filesystem::path& p) {
   if (fd < 0) return;
   (void)::fsync(fd);
   ::close(fd);
+}
+
+// Name of this machine, for temporary file names: on a shared file system a process id alone
+// does not say whose file it is.
+std::string host_name() {
+  char name[256] = {0};
+  if (::gethostname(name, sizeof name - 1) != 0 || name[0] == 0) return "host";
+  std::string out = name;
+  std::replace(out.begin(), out.end(), '/', '_');
+  return out;
+}
+
+// A writer killed mid-write (kill -9, power cut) leaves its temporary file behind; remove those
+// of this machine whose process is gone, so that they do not pile up beside long runs.
+void remove_stale_temporaries(const std::filesystem::path& folder, const std::string& prefix) {
+  std::error_code ec;
+  for (const auto& entry : std::filesystem::directory_iterator(folder, ec)) {
+    const std::string name = entry.path().filename().string();
+    if (name.rfind(prefix, 0) != 0) continue;
+    const std::string digits = name.substr(prefix.size());
+    if (digits.empty() || digits.size() > 9 ||
+        digits.find_first_not_of("0123456789") != std::string::npos)
+      continue;
+    const pid_t pid = static_cast<pid_t>(std::stol(digits));
+    if (pid > 0 && ::kill(pid, 0) != 0 && errno == ESRCH) {
+      std::error_code ignored;
+      std::filesystem::remove(entry.path(), ignored);
+    }
+  }
 }
 
 // ---------------------------------------------------------------------------------- reading
@@ -522,6 +564,9 @@ bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
       // A chunk never written (fill values) or stored unusually: let HDF5 read the dataset.
       if (H5Dget_chunk_storage_size(ds.handle.get(), offset, &size) < 0 || size == 0) return false;
       if (size > file_size_) fail(ds.name + " has a chunk larger than the file");
+      // A deflate stream never exceeds zlib's worst case (stored blocks); a larger claim is not
+      // a chunk this reader knows how to expand, and must not size its buffers.
+      if (size > max_deflated_bytes(chunk_bytes)) return false;
       stored[k].resize(size);
       std::uint32_t mask = 0;
       ok(H5Dread_chunk(ds.handle.get(), H5P_DEFAULT, offset, &mask, stored[k].data()),
@@ -544,7 +589,8 @@ bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
       }
       if (!fine) damaged = true;
     });
-    if (damaged) fail("truncated or damaged HDF5 file (a chunk of " + ds.name + " does not inflate)");
+    if (damaged)
+      fail("truncated or damaged HDF5 file (a chunk of " + ds.name + " does not inflate)");
   }
   return true;
 }
@@ -656,7 +702,8 @@ double Reader::float_attr(hid_t obj, const std::string& where, const char* name)
 
 void Reader::read_root(ArchiveSnapshot& s) {
   context_ = "the root attributes";
-  const char* other_kind = "an HDF5 file, but not a tessera archive (no format=\"tessera-archive\")";
+  const char* other_kind =
+      "an HDF5 file, but not a tessera archive (no format=\"tessera-archive\")";
   const hid_t root = file_.get();
   if (ok(H5Aexists(root, "format"), "H5Aexists") == 0) fail(other_kind);
   {
@@ -723,8 +770,8 @@ void Reader::read_genome(ArchiveSnapshot& s) {
     fail("/genome/lower has " + std::to_string(lower.elements) +
          " entries, more than tessera reads");
   if (upper.elements != lower.elements)
-    fail("/genome/upper has " + std::to_string(upper.elements) +
-         " entries but /genome/lower has " + std::to_string(lower.elements));
+    fail("/genome/upper has " + std::to_string(upper.elements) + " entries but /genome/lower has " +
+         std::to_string(lower.elements));
   s.genome_bounds.lower = values<double>(lower);
   s.genome_bounds.upper = values<double>(upper);
 }
@@ -807,9 +854,9 @@ std::vector<std::string> link_names(hid_t group, std::size_t limit) {
   ok(H5Gget_info(group, &info), "H5Gget_info");
   std::vector<std::string> names;
   for (hsize_t i = 0; i < info.nlinks && names.size() <= limit; ++i) {
-    const ssize_t length = ok(H5Lget_name_by_idx(group, ".", H5_INDEX_NAME, H5_ITER_INC, i,
-                                                 nullptr, 0, H5P_DEFAULT),
-                              "H5Lget_name_by_idx");
+    const ssize_t length =
+        ok(H5Lget_name_by_idx(group, ".", H5_INDEX_NAME, H5_ITER_INC, i, nullptr, 0, H5P_DEFAULT),
+           "H5Lget_name_by_idx");
     std::string name(static_cast<std::size_t>(std::min<ssize_t>(length, 4096)) + 1, '\0');
     ok(H5Lget_name_by_idx(group, ".", H5_INDEX_NAME, H5_ITER_INC, i, name.data(), name.size(),
                           H5P_DEFAULT),
@@ -875,11 +922,11 @@ void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot
   if (auto fault = snapshot_fault(snapshot))
     throw std::invalid_argument(path + ": cannot write archive: " + *fault);
   const fs::path target(path);
-  if (target.filename().empty())
-    throw InputError(path + ": cannot write archive: not a file name");
+  if (target.filename().empty()) throw InputError(path + ": cannot write archive: not a file name");
   const fs::path folder = target.has_parent_path() ? target.parent_path() : fs::path(".");
-  const fs::path temp =
-      folder / ("." + target.filename().string() + ".tmp-" + std::to_string(::getpid()));
+  const std::string temp_prefix = "." + target.filename().string() + ".tmp-" + host_name() + "-";
+  const fs::path temp = folder / (temp_prefix + std::to_string(::getpid()));
+  remove_stale_temporaries(folder, temp_prefix);
 
   std::lock_guard<std::mutex> lock(hdf5_mutex());
   H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);  // errors come back as one line, never printed

@@ -10,9 +10,10 @@ namespace tessera {
 
 inline constexpr int kArchiveFormatVersion = 1;
 
-// Writes the snapshot whole to a temporary file beside `path` (".NAME.tmp-PID"), flushes it to
-// disk and renames it over `path`, so that a reader or a crash never sees half a file. Elites are
-// written in the snapshot's order. Throws std::invalid_argument when the snapshot is not a valid
+// Writes the snapshot whole to a temporary file beside `path` (".NAME.tmp-HOST-PID"), flushes it
+// to disk and renames it over `path`, so that a reader or a crash never sees half a file; stale
+// temporary files of killed writers on this machine are removed. Elites are written in the
+// snapshot's order. Throws std::invalid_argument when the snapshot is not a valid
 // format 1 archive (nothing is touched), tessera::InputError "PATH: cannot write archive: ..."
 // when the file system refuses; in both cases any previous file at `path` is left intact.
 void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot);

@@ -56,28 +56,30 @@ ArchiveSummary summarize_archive(const ArchiveSnapshot& s, const std::string& fi
 
 namespace {
 
+using Json = nlohmann::ordered_json;
+
 template <class T>
-nlohmann::json or_null(const std::optional<T>& v) {
-  return v ? nlohmann::json(*v) : nlohmann::json(nullptr);
+Json or_null(const std::optional<T>& v) {
+  return v ? Json(*v) : Json(nullptr);
 }
 
 }  // namespace
 
-void to_json(nlohmann::json& out, const ArchiveSummary& s) {
-  nlohmann::json space = {{"kind", s.space_kind},
-                          {"cells", s.cells},
-                          {"dimensions", s.descriptor_bounds.size()},
-                          {"lower", s.descriptor_bounds.lower},
-                          {"upper", s.descriptor_bounds.upper},
-                          {"names", s.descriptor_names},
-                          {"resolution", nullptr}};
+void to_json(nlohmann::ordered_json& out, const ArchiveSummary& s) {
+  Json space = {{"kind", s.space_kind},
+                {"cells", s.cells},
+                {"dimensions", s.descriptor_bounds.size()},
+                {"lower", s.descriptor_bounds.lower},
+                {"upper", s.descriptor_bounds.upper},
+                {"names", s.descriptor_names},
+                {"resolution", nullptr}};
   if (s.space_kind == "grid") space["resolution"] = s.resolution;
-  nlohmann::json best = nullptr;
+  Json best = nullptr;
   if (s.best)
-    best = {{"index", s.best->index},       {"cell", s.best->cell},
-            {"fitness", s.best->fitness},   {"birth", s.best->birth},
+    best = {{"index", s.best->index},           {"cell", s.best->cell},
+            {"fitness", s.best->fitness},       {"birth", s.best->birth},
             {"descriptor", s.best->descriptor}, {"genome", s.best->genome}};
-  nlohmann::json resume = nullptr;
+  Json resume = nullptr;
   if (s.algorithm) resume = {{"algorithm", *s.algorithm}, {"next_batch", or_null(s.next_batch)}};
   out = {{"format", "tessera-inspect"},
          {"version", 1},

@@ -48,13 +48,13 @@ struct ArchiveSummary {
   std::size_t genome_size = 0;
 
   std::size_t elites = 0;
-  double coverage = 0.0;   // elites / cells (0 for an empty unstructured archive)
-  double qd_score = 0.0;   // sum over elites, in stored order, of (fitness - qd_offset)
+  double coverage = 0.0;  // elites / cells (0 for an empty unstructured archive)
+  double qd_score = 0.0;  // sum over elites, in stored order, of (fitness - qd_offset)
   double qd_offset = 0.0;
   std::optional<double> max_fitness;  // from the elites themselves
   std::optional<BestElite> best;      // the fittest elite, the first in stored order on ties
 
-  std::optional<std::uint64_t> invalid;        // /resume counters, when present
+  std::optional<std::uint64_t> invalid;  // /resume counters, when present
   std::optional<std::uint64_t> out_of_bounds;
   std::map<std::string, std::uint64_t> failures;  // counters named "failed:<reason>"
 
@@ -65,6 +65,7 @@ struct ArchiveSummary {
 
 ArchiveSummary summarize_archive(const ArchiveSnapshot& snapshot, const std::string& file);
 
-void to_json(nlohmann::json& out, const ArchiveSummary& summary);
+// Keys in the documented order (ordered_json), header first.
+void to_json(nlohmann::ordered_json& out, const ArchiveSummary& summary);
 
 }  // namespace tessera

@@ -25,6 +25,10 @@ void unshuffle(const unsigned char* in, unsigned char* out, std::size_t bytes, s
 
 }  // namespace
 
+std::size_t max_deflated_bytes(std::size_t bytes) {
+  return compressBound(static_cast<uLong>(bytes));
+}
+
 std::vector<unsigned char> encode_chunk(const unsigned char* data, std::size_t bytes,
                                         std::size_t element_size, int level) {
   std::vector<unsigned char> shuffled(bytes);

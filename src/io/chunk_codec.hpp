@@ -13,6 +13,9 @@ namespace tessera {
 std::vector<unsigned char> encode_chunk(const unsigned char* data, std::size_t bytes,
                                         std::size_t element_size, int level);
 
+// The most bytes a deflated chunk of `bytes` bytes can take (zlib's compressBound).
+std::size_t max_deflated_bytes(std::size_t bytes);
+
 // Inflates `stored` into exactly `bytes` bytes and unshuffles them into `out`. Returns false when
 // the stored bytes are not a zlib stream of exactly that length (a damaged file).
 bool decode_chunk(const unsigned char* stored, std::size_t stored_bytes, unsigned char* out,

@@ -2,14 +2,13 @@
 
 #include <unistd.h>
 
+#include <atomic>
 #include <bit>
-#include <chrono>
 #include <cmath>
 #include <cstdint>
 #include <cstdlib>
 #include <cstring>
 #include <fstream>
-#include <iterator>
 #include <system_error>
 
 namespace tessera {
@@ -73,19 +72,23 @@ std::filesystem::path env_path(const char* name) {
 // Reads a cached file; returns an empty vector and a reason when it cannot be used.
 std::vector<double> read_cache(const std::filesystem::path& path, const std::string& header,
                                std::size_t values, std::string& reason) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) {
+  const std::size_t body = values * sizeof(double);
+  const std::size_t expected = header.size() + body + sizeof(std::uint64_t);
+  std::error_code ec;
+  const auto size = std::filesystem::file_size(path, ec);
+  if (ec) {
     reason = "absent";
     return {};
   }
-  const std::string content((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
-  if (in.bad()) {
-    reason = "unreadable";
+  if (size != expected) {  // checked before reading, so a huge stray file costs nothing
+    reason = "wrong size";
     return {};
   }
-  const std::size_t body = values * sizeof(double);
-  if (content.size() != header.size() + body + sizeof(std::uint64_t)) {
-    reason = "wrong size";
+  std::ifstream in(path, std::ios::binary);
+  std::string content(expected, '\0');
+  in.read(content.data(), static_cast<std::streamsize>(expected));
+  if (!in || in.gcount() != static_cast<std::streamsize>(expected)) {
+    reason = "unreadable";
     return {};
   }
   if (content.compare(0, header.size(), header) != 0) {
@@ -119,12 +122,14 @@ bool write_cache(const std::filesystem::path& path, const std::string& header,
     return false;
   }
   std::string content = header;
-  content.append(reinterpret_cast<const char*>(centroids.data()), centroids.size() * sizeof(double));
+  content.append(reinterpret_cast<const char*>(centroids.data()),
+                 centroids.size() * sizeof(double));
   put(content, fnv1a(content.data(), content.size()));
 
-  const auto stamp = std::chrono::steady_clock::now().time_since_epoch().count();
+  // Unique among processes (pid) and among threads of this one (counter).
+  static std::atomic<unsigned> counter{0};
   std::filesystem::path temp = path;
-  temp += ".tmp-" + std::to_string(::getpid()) + "-" + std::to_string(stamp);
+  temp += ".tmp-" + std::to_string(::getpid()) + "-" + std::to_string(counter++);
   {
     std::ofstream out(temp, std::ios::binary | std::ios::trunc);
     if (out) out.write(content.data(), static_cast<std::streamsize>(content.size()));

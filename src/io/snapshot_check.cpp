@@ -9,7 +9,9 @@
 namespace tessera {
 namespace {
 
-std::string str(std::uint64_t n) { return std::to_string(n); }
+std::string str(std::uint64_t n) {
+  return std::to_string(n);
+}
 
 std::string describe(double v) {
   if (std::isnan(v)) return "NaN";
@@ -39,8 +41,7 @@ std::optional<std::string> bounds_fault(const Bounds& b, const std::string& grou
   if (auto f = first_non_finite(b.lower, group + "/lower")) return f;
   if (auto f = first_non_finite(b.upper, group + "/upper")) return f;
   for (std::size_t i = 0; i < b.size(); ++i)
-    if (!(b.lower[i] < b.upper[i]))
-      return group + ": lower >= upper in dimension " + str(i);
+    if (!(b.lower[i] < b.upper[i])) return group + ": lower >= upper in dimension " + str(i);
   return std::nullopt;
 }
 
@@ -48,15 +49,16 @@ std::optional<std::string> bounds_fault(const Bounds& b, const std::string& grou
 
 std::optional<std::string> space_fault(const ArchiveSnapshot& s) {
   const std::size_t d = s.descriptor_size();
-  if (d > kMaxDescriptorSize) return "/space has more than " + str(kMaxDescriptorSize) + " dimensions";
+  if (d > kMaxDescriptorSize)
+    return "/space has more than " + str(kMaxDescriptorSize) + " dimensions";
   if (auto f = bounds_fault(s.descriptor_bounds, "/space")) return f;
   if (s.descriptor_names.size() != d)
     return "/space/names has " + str(s.descriptor_names.size()) + " entries but /space/lower has " +
            str(d);
   if (s.space_kind == "grid") {
     if (s.resolution.size() != d)
-      return "/space/resolution has " + str(s.resolution.size()) + " entries but /space/lower has " +
-             str(d);
+      return "/space/resolution has " + str(s.resolution.size()) +
+             " entries but /space/lower has " + str(d);
     std::int64_t cells = 1;
     for (std::size_t i = 0; i < d; ++i) {
       const std::int64_t r = s.resolution[i];
@@ -119,8 +121,10 @@ std::optional<std::string> history_fault(const ArchiveSnapshot& s) {
     const HistoryRow& row = s.history[t];
     std::string at = "[";
     at.append(str(t)).append("]");
-    if (!std::isfinite(row.coverage)) return "/history/coverage" + at + " is " + describe(row.coverage);
-    if (!std::isfinite(row.qd_score)) return "/history/qd_score" + at + " is " + describe(row.qd_score);
+    if (!std::isfinite(row.coverage))
+      return "/history/coverage" + at + " is " + describe(row.coverage);
+    if (!std::isfinite(row.qd_score))
+      return "/history/qd_score" + at + " is " + describe(row.qd_score);
     // -inf is the maximum of no elites at all (EliteArchive::max_fitness), so it is allowed
     // exactly while the archive is empty.
     const bool empty_max = row.max_fitness == -INFINITY && row.coverage == 0.0;
@@ -145,7 +149,8 @@ std::optional<std::string> snapshot_fault(const ArchiveSnapshot& s) {
   if (auto f = elites_fault(s)) return f;
   if (auto f = history_fault(s)) return f;
   if (s.resume) {
-    if (s.resume->counters.size() > kMaxResumeEntries || s.resume->arrays.size() > kMaxResumeEntries)
+    if (s.resume->counters.size() > kMaxResumeEntries ||
+        s.resume->arrays.size() > kMaxResumeEntries)
       return "/resume has more than " + str(kMaxResumeEntries) + " entries";
     for (const auto& [name, value] : s.resume->counters)
       if (!valid_resume_name(name)) return "/resume/counters has an unusable name \"" + name + "\"";

@@ -29,7 +29,11 @@ std::string xml_escape(const std::string& text) {
 std::string tick_label(double value) {
   if (std::fabs(value) < 1e-12) value = 0.0;  // no "-0" or "1e-17" at the origin
   char buf[32];
-  std::snprintf(buf, sizeof buf, "%.4g", value);
+  // Whole numbers up to a billion in full (evaluation counts), anything else to 4 digits.
+  if (std::fabs(value) >= 1000 && std::fabs(value) < 1e9 && value == std::floor(value))
+    std::snprintf(buf, sizeof buf, "%.0f", value);
+  else
+    std::snprintf(buf, sizeof buf, "%.4g", value);
   return buf;
 }
 
@@ -121,7 +125,7 @@ std::string svg_file(const std::string& svg_element_text) {
 std::string line_chart_svg(const std::string& title, const std::string& x_label,
                            const std::string& y_label, const std::vector<double>& xs,
                            const std::vector<double>& ys) {
-  PlotFrame f{90, 40, 470, 220};
+  PlotFrame f{76, 40, 280, 200};
   if (xs.empty()) {
     f.x0 = 0, f.x1 = 1, f.y0 = 0, f.y1 = 1;
   } else {
@@ -147,7 +151,7 @@ std::string line_chart_svg(const std::string& title, const std::string& x_label,
       body += "<circle cx=\"" + num(f.px(xs[0])) + "\" cy=\"" + num(f.py(ys[0])) +
               "\" r=\"3\" fill=\"" + hex_colour(cividis(0.1)) + "\"/>\n";
   }
-  return svg_element(600, 320, title, body);
+  return svg_element(375, 300, title, body);
 }
 
 std::string front_chart_svg(const std::string& title, const std::string& x_label,

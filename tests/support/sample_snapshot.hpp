@@ -23,7 +23,7 @@ struct SampleOptions {
   std::size_t genome = 7;
   std::size_t history = 12;
   bool resume = true;
-  std::uint64_t salt = 0;     // different salts give different contents
+  std::uint64_t salt = 0;  // different salts give different contents
 };
 
 inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
@@ -49,8 +49,8 @@ inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
   } else if (o.kind == "cvt") {
     cells = o.elites + 3;
     for (std::size_t k = 0; k < cells * d; ++k)
-      s.centroids.push_back(rng.uniform(s.descriptor_bounds.lower[k % d],
-                                        s.descriptor_bounds.upper[k % d]));
+      s.centroids.push_back(
+          rng.uniform(s.descriptor_bounds.lower[k % d], s.descriptor_bounds.upper[k % d]));
   }
   std::uint64_t step = 7919;  // prime
   while (cells > 0 && std::gcd<std::uint64_t>(step, cells) != 1) step += 2;
@@ -69,14 +69,14 @@ inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
   }
   s.qd_offset = -std::numbers::pi * std::numbers::pi;
   for (std::size_t t = 0; t < o.history; ++t)
-    s.history.push_back({(t + 1) * 64, (t + 1.0) / (o.history + 3.0), 0.5 * t + 1e-17,
-                         -1.0 / (t + 1.0)});
+    s.history.push_back(
+        {(t + 1) * 64, (t + 1.0) / (o.history + 3.0), 0.5 * t + 1e-17, -1.0 / (t + 1.0)});
   if (o.resume) {
     ResumeState r;
     r.algorithm = "map-elites";
     r.next_batch = 1 + o.salt;
-    r.counters = {{"invalid", 3}, {"out_of_bounds", 5}, {"failed:timeout", 2},
-                  {"huge", UINT64_MAX}};
+    r.counters = {
+        {"invalid", 3}, {"out_of_bounds", 5}, {"failed:timeout", 2}, {"huge", UINT64_MAX}};
     // Engine state may hold sentinels such as -inf; only the format 1 datasets must be finite.
     r.arrays = {{"sigma", {0.5, 0.25, -0.0}}, {"empty", {}}, {"best", {-INFINITY}}};
     s.resume = r;

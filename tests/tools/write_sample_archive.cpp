@@ -15,8 +15,10 @@ int main(int argc, char** argv) {
   tessera::testing::SampleOptions o;
   for (int i = 1; i < argc; ++i) {
     const std::string a = argv[i];
-    if (a == "--no-resume") o.resume = false;
-    else args.push_back(a);
+    if (a == "--no-resume")
+      o.resume = false;
+    else
+      args.push_back(a);
   }
   if (args.size() < 2 || args.size() > 6) {
     std::cerr << "usage: write_sample_archive KIND PATH [ELITES [GENOME [HISTORY [SALT]]]] "

@@ -156,11 +156,11 @@ TEST_CASE("damaged or foreign cache files are recomputed and replaced", "[cvt-ca
   tessera::load_or_compute_cvt(kBox, other, &note);
   const std::string foreign = slurp(tessera::cvt_cache_path(kBox, other));
 
-  for (const Damage& d : {Damage{"flipped body bit", flipped, "checksum"},
-                          Damage{"truncated", intact.substr(0, intact.size() - 9), "wrong size"},
-                          Damage{"empty", "", "wrong size"},
-                          Damage{"changed header", header_changed, "header"},
-                          Damage{"foreign settings", foreign, "header"}}) {
+  for (const Damage& d :
+       {Damage{"flipped body bit", flipped, "checksum"},
+        Damage{"truncated", intact.substr(0, intact.size() - 9), "wrong size"},
+        Damage{"empty", "", "wrong size"}, Damage{"changed header", header_changed, "header"},
+        Damage{"foreign settings", foreign, "header"}}) {
     spit(file, d.bytes);
     const auto again = tessera::load_or_compute_cvt(kBox, s, &note);
     INFO(d.what << ": " << note);

@@ -49,8 +49,8 @@ const std::vector<lk::Dimensions>& crank_rockers() {
 // Grashof's rule and the classes it yields, on hand-made link sets. Rule and class names as in
 // Norton, Design of Machinery, sec. 2.12 (s + l <= p + q; shortest link as crank -> crank-rocker,
 // as ground -> double crank, as coupler -> double rocker; s + l = p + q -> change point;
-// s + l > p + q -> triple rocker); Shigley & Uicker, Theory of Machines and Mechanisms, ch. 1 states
-// the same law.
+// s + l > p + q -> triple rocker); Shigley & Uicker, Theory of Machines and Mechanisms, ch. 1
+// states the same law.
 TEST_CASE("Grashof's rule classifies hand-made four-bars", "[linkage][grashof]") {
   // (ground, crank, coupler, rocker)
   // s=1, l=4: 5 <= 3 + 3.5, shortest is the crank.
@@ -78,11 +78,11 @@ TEST_CASE("only the Grashof crank-rocker lets the crank turn fully and the rocke
           "[linkage][grashof]") {
   // The position analysis must agree with the class: the crank turns fully exactly when the
   // shortest link is the crank or the ground (Grashof's theorem, Norton sec. 2.12).
-  CHECK(closes_everywhere(dims(4, 1, 3, 3.5)));       // crank-rocker
-  CHECK(closes_everywhere(dims(1, 4, 3, 3.5)));       // double crank: the crank turns too
-  CHECK_FALSE(closes_everywhere(dims(4, 3, 1, 3.5))); // double rocker
-  CHECK_FALSE(closes_everywhere(dims(4, 3.5, 3, 1))); // rocker-crank: our crank only rocks
-  CHECK_FALSE(closes_everywhere(dims(5, 2, 3, 3.5))); // triple rocker
+  CHECK(closes_everywhere(dims(4, 1, 3, 3.5)));        // crank-rocker
+  CHECK(closes_everywhere(dims(1, 4, 3, 3.5)));        // double crank: the crank turns too
+  CHECK_FALSE(closes_everywhere(dims(4, 3, 1, 3.5)));  // double rocker
+  CHECK_FALSE(closes_everywhere(dims(4, 3.5, 3, 1)));  // rocker-crank: our crank only rocks
+  CHECK_FALSE(closes_everywhere(dims(5, 2, 3, 3.5)));  // triple rocker
 
   // In the crank-rocker the rocker oscillates (its angle stays within a half turn); in the
   // double crank it turns through every direction.
@@ -101,7 +101,9 @@ TEST_CASE("only the Grashof crank-rocker lets the crank turn fully and the rocke
 
   // The feasibility check of the problem (crank-rocker only) gives the documented reasons.
   lk::Evaluator ev({});
-  const auto reason = [&](const lk::Dimensions& m) { return ev.evaluate(genome_of(m).data()).reason; };
+  const auto reason = [&](const lk::Dimensions& m) {
+    return ev.evaluate(genome_of(m).data()).reason;
+  };
   CHECK(reason(dims(4, 1, 3, 3.5)) == lk::kFeasible);
   CHECK(reason(dims(5, 2, 3, 3.5)) == lk::kNotGrashof);
   CHECK(reason(dims(1, 4, 3, 3.5)) == lk::kCrankNotShortest);
@@ -135,16 +137,17 @@ TEST_CASE("the position analysis satisfies Freudenstein's equation at every samp
       double worst = 0.0, worst_length = 0.0;
       for (const auto& p : poses) {
         const double t2 = p.crank_angle, t4 = theta4(m, p);
-        worst = std::max(worst, std::abs(k1 * std::cos(t4) - k2 * std::cos(t2) + k3 -
-                                         std::cos(t2 - t4)));
+        worst = std::max(worst,
+                         std::abs(k1 * std::cos(t4) - k2 * std::cos(t2) + k3 - std::cos(t2 - t4)));
         // The links keep their lengths, and P keeps its place on the coupler.
-        worst_length = std::max(
-            {worst_length, std::abs(std::hypot(p.ax, p.ay) - a) / a,
-             std::abs(std::hypot(p.bx - p.ax, p.by - p.ay) - b) / b,
-             std::abs(std::hypot(p.bx - d, p.by) - c) / c,
-             m.point_distance > 0 ? std::abs(std::hypot(p.px - p.ax, p.py - p.ay) -
-                                             m.point_distance) / m.point_distance
-                                  : std::hypot(p.px - p.ax, p.py - p.ay)});
+        worst_length =
+            std::max({worst_length, std::abs(std::hypot(p.ax, p.ay) - a) / a,
+                      std::abs(std::hypot(p.bx - p.ax, p.by - p.ay) - b) / b,
+                      std::abs(std::hypot(p.bx - d, p.by) - c) / c,
+                      m.point_distance > 0
+                          ? std::abs(std::hypot(p.px - p.ax, p.py - p.ay) - m.point_distance) /
+                                m.point_distance
+                          : std::hypot(p.px - p.ax, p.py - p.ay)});
       }
       INFO("d=" << d << " a=" << a << " b=" << b << " c=" << c);
       CHECK(worst < 1e-12);
@@ -172,7 +175,7 @@ TEST_CASE("the branches are mirror images across the diagonal O4-A", "[linkage][
     CHECK(s_open == Approx(-s_crossed).margin(1e-12));
     CHECK(s_open < 0.0);  // open: B on the clockwise side of O4->A, throughout the cycle
   }
-  CHECK(open[18].by > 0.0);     // theta2 = 90 deg
+  CHECK(open[18].by > 0.0);  // theta2 = 90 deg
   CHECK(crossed[18].by < 0.0);
 }
 
@@ -203,10 +206,12 @@ TEST_CASE("the transmission angle equals the law-of-cosines formula", "[linkage]
       CHECK(e.mu_max_deg == Approx(mu_hi).margin(1e-6));
       // The extremes occur with crank and ground collinear (theta2 = 0 and 180 deg, both
       // sampled): f = d - a and d + a (Norton sec. 4.10).
-      CHECK(e.mu_min_deg ==
-            Approx(std::acos((b * b + c * c - (d - a) * (d - a)) / (2 * b * c)) / kDeg).margin(1e-6));
-      CHECK(e.mu_max_deg ==
-            Approx(std::acos((b * b + c * c - (d + a) * (d + a)) / (2 * b * c)) / kDeg).margin(1e-6));
+      CHECK(
+          e.mu_min_deg ==
+          Approx(std::acos((b * b + c * c - (d - a) * (d - a)) / (2 * b * c)) / kDeg).margin(1e-6));
+      CHECK(
+          e.mu_max_deg ==
+          Approx(std::acos((b * b + c * c - (d + a) * (d + a)) / (2 * b * c)) / kDeg).margin(1e-6));
       CHECK(e.fitness >= 0.0);
       CHECK(e.fitness <= 90.0);
     }

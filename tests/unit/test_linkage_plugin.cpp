@@ -89,8 +89,8 @@ TEST_CASE("the plugin gives the model's results bit for bit, with reasons", "[li
   const std::size_t n = 2000;
   for (std::size_t i = 0; i < n; ++i)
     for (std::size_t j = 0; j < lk::kGenomeSize; ++j)
-      genomes.push_back(std::uniform_real_distribution<double>(info.genome.lower[j],
-                                                               info.genome.upper[j])(rng));
+      genomes.push_back(
+          std::uniform_real_distribution<double>(info.genome.lower[j], info.genome.upper[j])(rng));
   const auto batch = evaluate(*problem, genomes);
   std::size_t seen[6] = {};
   for (std::size_t i = 0; i < n; ++i) {
@@ -150,8 +150,7 @@ TEST_CASE("bad linkage options are refused with one line naming the fault", "[li
   has(option_error("transmission_limit = 95"), "option 'transmission_limit'");
   has(option_error("straight_share = 0.5"), "needs straightness = true");
   has(option_error("straightness = 'yes'"), "must be true or false");
-  has(option_error("straightness = true\nsamples = 40\nstraight_share = 0.05"),
-      "fewer than 3");
+  has(option_error("straightness = true\nsamples = 40\nstraight_share = 0.05"), "fewer than 3");
   has(option_error("point_angle = [-400, 0]"), "option 'point_angle'");
   has(option_error("ground = [1, 2"), "not valid TOML");
   CHECK(option_error("ground = [1, 2]\ncrank = [0.1, 0.5]") == "");

@@ -84,9 +84,13 @@ std::int64_t trigger_number(double g0) {
 bool trigger(double g0, double percent) {
   return static_cast<double>(trigger_number(g0) % 100) < percent;
 }
-int fault_kind(double g0, int kinds) { return static_cast<int>(trigger_number(g0) / 100 % kinds); }
+int fault_kind(double g0, int kinds) {
+  return static_cast<int>(trigger_number(g0) / 100 % kinds);
+}
 
-std::uint64_t bits(double x) { return std::bit_cast<std::uint64_t>(x); }
+std::uint64_t bits(double x) {
+  return std::bit_cast<std::uint64_t>(x);
+}
 
 // The fixture workers' answer (fixture_protocol.evaluate): the descriptor echoes the genome and
 // the fitness adds the genome values in order; both must come back bit for bit.
@@ -179,8 +183,7 @@ TEST_CASE("genomes cross to a Python worker and back bit for bit") {
   // point arithmetic: issues and limitations"); the echo worker sends the genome back.
   constexpr std::size_t kSize = 6;  // also the worker's argument below
   auto problem = open_process_problem(
-      make_spec({kPython, fixture("echo_worker.py"), "0", "6"}, 2, 20.0, kSize,
-                kSize));
+      make_spec({kPython, fixture("echo_worker.py"), "0", "6"}, 2, 20.0, kSize, kSize));
   Batch batch = uniform_batch(300, kSize, kSize, -1.0, 1.0, 7);
   std::mt19937_64 rng(99);
   for (double& g : batch.genomes) {
@@ -201,8 +204,9 @@ TEST_CASE("genomes cross to a Python worker and back bit for bit") {
 TEST_CASE("the Python arm worker agrees with the closed form") {
   const std::size_t workers = GENERATE(1, 3);
   constexpr std::size_t kJoints = 10;
-  auto spec = make_spec({kPython, std::string(TESSERA_SOURCE_DIR) + "/problems/examples/arm_worker.py"},
-                        workers, 30.0, kJoints, 2);
+  auto spec =
+      make_spec({kPython, std::string(TESSERA_SOURCE_DIR) + "/problems/examples/arm_worker.py"},
+                workers, 30.0, kJoints, 2);
   spec.declared.fitness_lower = -std::numbers::pi * std::numbers::pi;
   spec.declared.fitness_upper = 0.0;
   auto problem = open_process_problem(spec);
@@ -257,15 +261,21 @@ TEST_CASE("a worker that crashes is restarted and only the crashing candidates f
   }
   const std::map<std::string, std::uint64_t> want = {{"crash", expected}};
   REQUIRE(counts_of(*problem) == want);
-  // Each culprit crashed twice: once among others, once alone on its retry. Their stderr went
-  // to the log.
-  REQUIRE(count_lines_with(read_file(log), "crash_worker: exiting") == 2 * expected);
+  // Their stderr went to the log. Each culprit crashed a worker alone on its retry, and at most
+  // once before among others (not at all when an earlier crash lost it unread); ids are kept
+  // on retry, so the distinct ids are the culprits.
+  std::map<std::string, int> crashes;
+  std::istringstream lines(read_file(log));
+  for (std::string line; std::getline(lines, line);)
+    if (line.starts_with("crash_worker: exiting on request ")) ++crashes[line.substr(33)];
+  REQUIRE(crashes.size() == expected);
+  for (const auto& [id, times] : crashes) REQUIRE(times <= 2);
   fs::remove(log);
 }
 
 TEST_CASE("a worker past the timeout is killed and the hanging candidates fail") {
-  auto problem = open_process_problem(
-      make_spec({kPython, fixture("hang_worker.py"), "4"}, 3, 1.0, 4, 2));
+  auto problem =
+      open_process_problem(make_spec({kPython, fixture("hang_worker.py"), "4"}, 3, 1.0, 4, 2));
   Batch batch = uniform_batch(120, 4, 2, -3.0, 3.0, 3);
   std::uint64_t expected = 0;
   for (std::size_t i = 0; i < batch.count; ++i) expected += trigger(batch.genome(i)[0], 4);
@@ -294,11 +304,10 @@ TEST_CASE("a worker past the timeout is killed and the hanging candidates fail")
 TEST_CASE("garbage, NaN, wrong lengths, unknown ids and error answers fail only their candidate") {
   constexpr std::size_t kDescriptor = 3;  // also the worker's argument below
   auto problem = open_process_problem(
-      make_spec({kPython, fixture("garbage_worker.py"), "10", "3"}, 2,
-                20.0, 4, kDescriptor));
+      make_spec({kPython, fixture("garbage_worker.py"), "10", "3"}, 2, 20.0, 4, kDescriptor));
   Batch batch = uniform_batch(600, 4, kDescriptor, -3.0, 3.0, 8);
   // fault_kind -> reason, as listed in garbage_worker.py.
-  const char* reasons[] = {"malformed answer", "not finite", "wrong descriptor length",
+  const char* reasons[] = {"malformed answer", "not finite",   "wrong descriptor length",
                            "unknown id",       "worker error", "not finite"};
   std::map<std::string, std::uint64_t> want;
   for (std::size_t i = 0; i < batch.count; ++i)
@@ -366,27 +375,28 @@ TEST_CASE("a worker that exits at once ends the batch with an error, not a hang"
   REQUIRE_THROWS_WITH(evaluator.evaluate(batch), Catch::Contains("keeps exiting"));
 }
 
-TEST_CASE("a worker that closes its stdin costs no evaluation and no SIGPIPE") {
-  // Each life of closing_worker.py answers one request and closes its stdin first, so every
-  // later write to it fails with EPIPE; SIGPIPE's default action would end this test program.
+TEST_CASE("a worker that closes its stdin costs no evaluation and does not stop tessera") {
+  // Each life of closing_worker.py closes its stdin, answers one request and lingers: the
+  // requests still in its pipe are lost, and a write to it would raise SIGPIPE, whose default
+  // action would end this test program. The pool must notice, restart it and resend.
   const std::string log = temp_log("closing");
-  auto problem = open_process_problem(
-      make_spec({kPython, fixture("closing_worker.py")}, 2, 20.0, 3, 2, log));
+  auto problem =
+      open_process_problem(make_spec({kPython, fixture("closing_worker.py")}, 2, 20.0, 3, 2, log));
   Batch batch = uniform_batch(24, 3, 2, -3.0, 3.0, 6);
   ThreadEvaluator evaluator(problem, 2);
   evaluator.evaluate(batch);
   for (std::size_t i = 0; i < batch.count; ++i) require_fixture_answer(batch, i);
   REQUIRE(counts_of(*problem).empty());
-  // One worker life per candidate: each was restarted after a failed write.
-  REQUIRE(count_lines_with(read_file(log), "answered") == batch.count);
+  // At least one worker life per candidate: each was replaced after its one answer.
+  REQUIRE(count_lines_with(read_file(log), "answered") >= batch.count);
   fs::remove(log);
 }
 
 TEST_CASE("destroying the problem ends and reaps every worker") {
   int status = 0;
   {
-    auto problem = open_process_problem(
-        make_spec({kPython, fixture("echo_worker.py")}, 3, 20.0, 2, 2));
+    auto problem =
+        open_process_problem(make_spec({kPython, fixture("echo_worker.py")}, 3, 20.0, 2, 2));
     Batch batch = uniform_batch(50, 2, 2, -1.0, 1.0, 2);
     ThreadEvaluator evaluator(problem, 2);
     evaluator.evaluate(batch);

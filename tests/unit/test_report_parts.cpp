@@ -1,0 +1,172 @@
+// Building blocks of the report and the selection commands, each against a published rule:
+// the colour map's lightness (CIE L*, CIE 15:2004, from sRGB per IEC 61966-2-1), the PNG file
+// layout (PNG specification, ISO/IEC 15948, with CRC-32 of ISO 3309 written out here), CSV quoting
+// (RFC 4180) and the targets file rules of io/targets_csv.hpp.
+#include <catch2/catch.hpp>
+#include <unistd.h>
+#include <zlib.h>
+
+#include <cmath>
+#include <cstdio>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "core/errors.hpp"
+#include "io/table_output.hpp"
+#include "io/targets_csv.hpp"
+#include "report/colormap.hpp"
+#include "report/png_image.hpp"
+#include "report/svg_chart.hpp"
+
+namespace {
+
+double lightness(tessera::Rgb c) {
+  const auto linear = [](double v) {
+    v /= 255.0;
+    return v <= 0.04045 ? v / 12.92 : std::pow((v + 0.055) / 1.055, 2.4);
+  };
+  const double y = 0.2126 * linear(c.r) + 0.7152 * linear(c.g) + 0.0722 * linear(c.b);
+  const double f = y > 216.0 / 24389.0 ? std::cbrt(y) : (24389.0 / 27.0 * y + 16.0) / 116.0;
+  return 116.0 * f - 16.0;
+}
+
+// CRC-32 (ISO 3309 / ITU-T V.42, reflected polynomial 0xEDB88320), bit by bit.
+std::uint32_t crc32_reference(const std::uint8_t* data, std::size_t n) {
+  std::uint32_t crc = 0xFFFFFFFFu;
+  for (std::size_t i = 0; i < n; ++i) {
+    crc ^= data[i];
+    for (int b = 0; b < 8; ++b) crc = (crc >> 1) ^ (0xEDB88320u & (0u - (crc & 1u)));
+  }
+  return crc ^ 0xFFFFFFFFu;
+}
+
+std::uint32_t be32(const std::uint8_t* p) {
+  return (std::uint32_t{p[0]} << 24) | (std::uint32_t{p[1]} << 16) | (std::uint32_t{p[2]} << 8) | p[3];
+}
+
+std::string write_temp(const std::string& name, const std::string& text) {
+  const auto path = std::filesystem::temp_directory_path() /
+                    ("tessera-test-" + std::to_string(::getpid()) + "-" + name);
+  std::ofstream(path) << text;
+  return path.string();
+}
+
+}  // namespace
+
+TEST_CASE("cividis: lightness rises steadily from dark blue to yellow") {
+  // The ten-step table spans L* 13 to 92, an almost constant rise per step (Nunez et al. 2018
+  // designed the map for linear lightness).
+  double previous = -1.0;
+  for (int i = 0; i <= 100; ++i) {
+    const double l = lightness(tessera::cividis(i / 100.0));
+    CHECK(l > previous);
+    previous = l;
+  }
+  const auto anchors = tessera::cividis_anchors();
+  REQUIRE(anchors.size() == 10);
+  for (std::size_t i = 1; i < anchors.size(); ++i) {
+    const double step = lightness(anchors[i]) - lightness(anchors[i - 1]);
+    CHECK(step > 7.0);
+    CHECK(step < 10.5);
+  }
+  // Blue end and yellow end.
+  const auto first = tessera::cividis(0.0), last = tessera::cividis(1.0);
+  CHECK(first.b > first.r);
+  CHECK(last.r > last.b);
+  CHECK(tessera::hex_colour(first) == "#00204d");
+}
+
+TEST_CASE("PNG: chunk layout, CRCs and pixel data follow the specification") {
+  tessera::RgbImage img(7, 3, {255, 255, 255});
+  for (std::size_t y = 0; y < 3; ++y)
+    for (std::size_t x = 0; x < 7; ++x)
+      img.set(x, y, {static_cast<std::uint8_t>(x * 30), static_cast<std::uint8_t>(y * 80), 7});
+  const auto png = tessera::encode_png(img);
+  const std::uint8_t signature[8] = {0x89, 'P', 'N', 'G', '\r', '\n', 0x1a, '\n'};
+  REQUIRE(png.size() > 8);
+  CHECK(std::equal(signature, signature + 8, png.begin()));
+  std::size_t at = 8;
+  std::vector<std::string> types;
+  std::vector<std::uint8_t> idat;
+  while (at + 12 <= png.size()) {
+    const std::uint32_t length = be32(&png[at]);
+    const std::string type(png.begin() + at + 4, png.begin() + at + 8);
+    types.push_back(type);
+    REQUIRE(at + 12 + length <= png.size());
+    CHECK(be32(&png[at + 8 + length]) == crc32_reference(&png[at + 4], length + 4));
+    if (type == "IHDR") {
+      REQUIRE(length == 13);
+      CHECK(be32(&png[at + 8]) == 7);
+      CHECK(be32(&png[at + 12]) == 3);
+      CHECK(png[at + 16] == 8);  // bit depth
+      CHECK(png[at + 17] == 2);  // truecolour
+    }
+    if (type == "IDAT") idat.insert(idat.end(), png.begin() + at + 8, png.begin() + at + 8 + length);
+    at += 12 + length;
+  }
+  CHECK(at == png.size());
+  CHECK(types == std::vector<std::string>{"IHDR", "IDAT", "IEND"});
+  std::vector<std::uint8_t> raw(3 * (1 + 7 * 3));
+  uLongf size = raw.size();
+  REQUIRE(uncompress(raw.data(), &size, idat.data(), idat.size()) == Z_OK);
+  REQUIRE(size == raw.size());
+  for (std::size_t y = 0; y < 3; ++y) {
+    CHECK(raw[y * 22] == 0);  // filter type None
+    for (std::size_t x = 0; x < 7; ++x) {
+      CHECK(raw[y * 22 + 1 + 3 * x] == x * 30);
+      CHECK(raw[y * 22 + 2 + 3 * x] == y * 80);
+      CHECK(raw[y * 22 + 3 + 3 * x] == 7);
+    }
+  }
+}
+
+TEST_CASE("CSV output quotes fields per RFC 4180 and expands vectors") {
+  tessera::Table t;
+  t.list_key = "rows";
+  t.columns = {{"name", {}}, {"v", {"a", "b,c"}}};
+  t.rows = {{std::string("plain"), std::vector<double>{0.1, -2.0}},
+            {std::string("say \"hi\", then"), std::vector<double>{1e-300, 3.0}}};
+  std::ostringstream out;
+  tessera::write_table_csv(out, t);
+  CHECK(out.str() ==
+        "name,v.a,\"v.b,c\"\n"
+        "plain,0.1,-2\n"
+        "\"say \"\"hi\"\", then\",1e-300,3\n");
+}
+
+TEST_CASE("targets file: optional header in any order, comments, faults by line") {
+  const std::vector<std::string> names = {"x", "y"};
+  const auto plain = write_temp("plain.csv", "# comment\n0.5, -0.25\n\n1,2\n");
+  CHECK(tessera::read_targets_csv(plain, names) ==
+        std::vector<std::vector<double>>{{0.5, -0.25}, {1.0, 2.0}});
+  const auto header = write_temp("header.csv", "y,\"x\"\n1,2\n");
+  CHECK(tessera::read_targets_csv(header, names) == std::vector<std::vector<double>>{{2.0, 1.0}});
+  const auto wrong_count = write_temp("count.csv", "1,2\n3\n");
+  CHECK_THROWS_WITH(tessera::read_targets_csv(wrong_count, names),
+                    wrong_count + ": line 2: expected 2 values, found 1");
+  const auto not_number = write_temp("nan.csv", "1,2\n3,nan\n");
+  CHECK_THROWS_AS(tessera::read_targets_csv(not_number, names), tessera::InputError);
+  const auto unknown = write_temp("unknown.csv", "x,z\n1,2\n");
+  CHECK_THROWS_AS(tessera::read_targets_csv(unknown, names), tessera::InputError);
+  const auto empty = write_temp("empty.csv", "x,y\n");
+  CHECK_THROWS_WITH(tessera::read_targets_csv(empty, names), empty + ": no targets in the file");
+  CHECK_THROWS_AS(tessera::read_targets_csv("/nonexistent/targets.csv", names),
+                  tessera::InputError);
+  for (const auto& p : {plain, header, wrong_count, not_number, unknown, empty})
+    std::filesystem::remove(p);
+}
+
+TEST_CASE("ticks are round numbers inside the range") {
+  const auto unit = tessera::nice_ticks(0.0, 1.0, 5);
+  REQUIRE(unit.size() == 6);
+  for (std::size_t i = 0; i < unit.size(); ++i) CHECK(unit[i] == Approx(0.2 * i).margin(1e-12));
+  const auto t = tessera::nice_ticks(-9.8696, -0.03, 6);
+  REQUIRE(!t.empty());
+  CHECK(t.front() >= -9.8696);
+  CHECK(t.back() <= -0.03);
+  CHECK(tessera::tick_label(20000.0) == "20000");
+  CHECK(tessera::xml_escape("a<b & \"c\"") == "a&lt;b &amp; &quot;c&quot;");
+}
