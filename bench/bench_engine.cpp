@@ -105,7 +105,7 @@ int main(int argc, char** argv) {
     settings.cells = 10000;
     settings.seed = static_cast<std::uint64_t>(r);
     const auto start = clock_type::now();
-    const auto centroids = compute_cvt_centroids(Bounds{std::vector<double>(6, 0.0),
+    const auto centroids = tessellate_descriptor_box(Bounds{std::vector<double>(6, 0.0),
                                                         std::vector<double>(6, 1.0)}, settings);
     cvt_times.push_back(seconds_since(start));
   }

@@ -79,9 +79,10 @@ int main(int argc, char** argv) {
       for (std::size_t r = 0; r < k; ++r) same = same && a[r].elite == b[r].elite;
     }
     const double t = median(tree_us), s = median(scan_us);
-    std::printf("  k=%-2zu  k-d tree %8.2f us/query   scan %9.1f us/query   scan/tree %7.0fx  "
-                "(answers %s)\n",
-                k, t, s, s / t, same ? "identical" : "DIFFER");
+    std::printf(
+        "  k=%-2zu  k-d tree %8.2f us/query   scan %9.1f us/query   scan/tree %7.0fx  "
+        "(answers %s)\n",
+        k, t, s, s / t, same ? "identical" : "DIFFER");
   }
   std::printf("  [%zu]\n", sink % 7);
   return 0;

@@ -65,9 +65,9 @@ inline void evaluate_damaged(const double* theta, std::size_t n, const ArmDamage
   for (std::size_t i = 0; i < n; ++i) scratch[i] = theta[i];
   if (damage.stuck_joint >= 0) scratch[damage.stuck_joint] = damage.stuck_angle;
   forward_kinematics(scratch, n, descriptor[0], descriptor[1]);
-  fitness = damage.has_target ? -std::hypot(descriptor[0] - damage.target_x,
-                                            descriptor[1] - damage.target_y)
-                              : -angle_variance(scratch, n);
+  fitness = damage.has_target
+                ? -std::hypot(descriptor[0] - damage.target_x, descriptor[1] - damage.target_y)
+                : -angle_variance(scratch, n);
 }
 
 }  // namespace tessera::arm

@@ -12,12 +12,12 @@
 namespace tessera::gait {
 
 inline constexpr std::size_t kLegs = 6;
-inline constexpr std::size_t kJointsPerLeg = 2;                     // swing, lift
-inline constexpr std::size_t kJoints = kLegs * kJointsPerLeg;       // actuator order
-inline constexpr std::size_t kParamsPerJoint = 3;                   // amplitude, phase, duty
+inline constexpr std::size_t kJointsPerLeg = 2;                // swing, lift
+inline constexpr std::size_t kJoints = kLegs * kJointsPerLeg;  // actuator order
+inline constexpr std::size_t kParamsPerJoint = 3;              // amplitude, phase, duty
 inline constexpr std::size_t kGenomeSize = kJoints * kParamsPerJoint;
-inline constexpr std::size_t kSamples = 100;                        // per period
-inline constexpr double kKernelSigma = 3.0;                         // samples
+inline constexpr std::size_t kSamples = 100;  // per period
+inline constexpr double kKernelSigma = 3.0;   // samples
 
 // One period of the signal in [-amplitude, amplitude], sampled at kSamples points: +1 for the
 // share `duty` of the period starting at `phase` (both in [0, 1]), -1 elsewhere, smoothed by a

@@ -73,12 +73,13 @@ GaitOptions read_options(const char* text) {
       glue::integer_option(table, "stuck_joint", -1, 0, static_cast<int>(gait::kJoints) - 1));
   if (table.contains("stuck_angle") && s.stuck_joint < 0)
     throw glue::OptionError("option 'stuck_angle' needs 'stuck_joint'");
-  s.stuck_angle = glue::number_option(table, "stuck_angle", 0.0, -std::numbers::pi, std::numbers::pi);
+  s.stuck_angle =
+      glue::number_option(table, "stuck_angle", 0.0, -std::numbers::pi, std::numbers::pi);
   return o;
 }
 
 const char* const kLegNames[gait::kLegs] = {"front_left",  "middle_left",  "rear_left",
-                                             "front_right", "middle_right", "rear_right"};
+                                            "front_right", "middle_right", "rear_right"};
 
 }  // namespace
 
@@ -101,8 +102,8 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
   try {
     auto instance = std::make_unique<tsr_instance>();
     const GaitOptions o = read_options(options_toml);
-    instance->sim = std::make_unique<gait::HexapodSim>(o.model_file, gait::kBuiltinModel,
-                                                      o.settings);
+    instance->sim =
+        std::make_unique<gait::HexapodSim>(o.model_file, gait::kBuiltinModel, o.settings);
     const auto& s = o.settings;
     if (s.stuck_joint >= 0) {
       const auto j = static_cast<std::size_t>(s.stuck_joint);
@@ -116,8 +117,10 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
     m.name = kName;
     char seconds[32];
     std::snprintf(seconds, sizeof seconds, "%g", s.duration);
-    m.summary = std::string("six-legged walker (MuJoCo), open-loop periodic gait: duty factor "
-                            "per leg, fitness = distance along +x in ") + seconds + " s";
+    m.summary = std::string(
+                    "six-legged walker (MuJoCo), open-loop periodic gait: duty factor "
+                    "per leg, fitness = distance along +x in ") +
+                seconds + " s";
     std::string damage;
     for (std::size_t leg = 0; leg < gait::kLegs; ++leg)
       if (s.leg_length_scale[leg] != 1.0)
@@ -125,11 +128,11 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
                   (s.leg_length_scale[leg] == 0.0 ? " removed" : " shortened");
     for (std::size_t j = 0; j < gait::kJoints; ++j)
       if (s.motor_strength[j] != 1.0)
-        damage += std::string(damage.empty() ? "" : ", ") + "motor " + std::to_string(j) +
-                  " at " + std::to_string(s.motor_strength[j]);
+        damage += std::string(damage.empty() ? "" : ", ") + "motor " + std::to_string(j) + " at " +
+                  std::to_string(s.motor_strength[j]);
     if (s.stuck_joint >= 0)
-      damage += std::string(damage.empty() ? "" : ", ") + "joint " +
-                std::to_string(s.stuck_joint) + " stuck";
+      damage += std::string(damage.empty() ? "" : ", ") + "joint " + std::to_string(s.stuck_joint) +
+                " stuck";
     if (!damage.empty()) m.summary += "; damage: " + damage;
     m.genome_lower.assign(gait::kGenomeSize, 0.0);
     m.genome_upper.assign(gait::kGenomeSize, 1.0);

@@ -67,9 +67,15 @@ HexapodSim::~HexapodSim() {
   mj_deleteModel(model_);
 }
 
-double HexapodSim::timestep() const { return model_->opt.timestep; }
-double HexapodSim::joint_lower(std::size_t j) const { return original_lower_[j]; }
-double HexapodSim::joint_upper(std::size_t j) const { return original_upper_[j]; }
+double HexapodSim::timestep() const {
+  return model_->opt.timestep;
+}
+double HexapodSim::joint_lower(std::size_t j) const {
+  return original_lower_[j];
+}
+double HexapodSim::joint_upper(std::size_t j) const {
+  return original_upper_[j];
+}
 
 void HexapodSim::find_names() {
   const std::string where = "hexapod model: ";
@@ -213,8 +219,8 @@ GaitResult HexapodSim::evaluate(const double* genome) {
   result.distance = std::clamp(d->xpos[3 * torso_body_] - x0, -limit, limit);
   result.final_height = d->xpos[3 * torso_body_ + 2];
   for (std::size_t leg = 0; leg < kLegs; ++leg)
-    result.duty[leg] = steps > 0 ? static_cast<double>(touching[leg]) / static_cast<double>(steps)
-                                 : 0.0;
+    result.duty[leg] =
+        steps > 0 ? static_cast<double>(touching[leg]) / static_cast<double>(steps) : 0.0;
   result.fitness = result.distance - (result.fell ? settings_.fall_penalty : 0.0) -
                    (result.self_collision ? settings_.collision_penalty : 0.0);
   return result;

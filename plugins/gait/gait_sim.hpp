@@ -18,16 +18,16 @@ struct mjData_;
 namespace tessera::gait {
 
 struct GaitSettings {
-  double duration = 3.0;                 // simulated seconds per evaluation
-  double period = 1.0;                   // seconds per gait cycle
-  std::optional<double> start_height;    // torso height at t = 0 (default: the model's)
-  double fall_penalty = 1.0;             // subtracted once when the robot falls
-  double collision_penalty = 1.0;        // subtracted once when legs or body hit each other
-  double max_speed = 1.0;                // m/s: distances are clamped to +-max_speed * duration
+  double duration = 3.0;               // simulated seconds per evaluation
+  double period = 1.0;                 // seconds per gait cycle
+  std::optional<double> start_height;  // torso height at t = 0 (default: the model's)
+  double fall_penalty = 1.0;           // subtracted once when the robot falls
+  double collision_penalty = 1.0;      // subtracted once when legs or body hit each other
+  double max_speed = 1.0;              // m/s: distances are clamped to +-max_speed * duration
   // Damage.
   std::array<double, kLegs> leg_length_scale{1, 1, 1, 1, 1, 1};  // shin kept; 0 removes it
-  int stuck_joint = -1;                  // actuator order: 2 * leg + (0 swing, 1 lift)
-  double stuck_angle = 0.0;              // radians
+  int stuck_joint = -1;      // actuator order: 2 * leg + (0 swing, 1 lift)
+  double stuck_angle = 0.0;  // radians
   std::array<double, kJoints> motor_strength{1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1};
 
   double fitness_lower() const { return -max_speed * duration - fall_penalty - collision_penalty; }
@@ -36,12 +36,12 @@ struct GaitSettings {
 
 struct GaitResult {
   double fitness = 0.0;
-  double distance = 0.0;      // torso displacement along the heading (+x), clamped
-  double final_height = 0.0;  // torso height at the end
+  double distance = 0.0;             // torso displacement along the heading (+x), clamped
+  double final_height = 0.0;         // torso height at the end
   std::array<double, kLegs> duty{};  // share of steps each foot touched the floor
-  bool fell = false;          // the torso tilted beyond 60 degrees at some point
+  bool fell = false;                 // the torso tilted beyond 60 degrees at some point
   bool self_collision = false;
-  bool valid = true;          // false when the simulation went unstable
+  bool valid = true;  // false when the simulation went unstable
 };
 
 class HexapodSim {

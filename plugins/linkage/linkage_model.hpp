@@ -45,9 +45,12 @@ struct Dimensions {
   }
 };
 
-// The two ways to assemble the loop for a given crank angle. Open: O2-A-B-O4 is a convex
-// quadrilateral when the crank points up (Norton's "open" circuit, minus sign of his closed form);
-// crossed: the coupler and the rocker cross the ground line's side (plus sign).
+// The two ways to assemble the loop for a given crank angle: B is one of the two points where the
+// circles about A (radius b) and O4 (radius c) meet, mirror images across the diagonal O4-A.
+// Open: B on the clockwise side of O4->A, so O2-A-B-O4 is a convex quadrilateral when the crank
+// points up (Norton's "open" circuit, minus sign in his closed form for theta4); crossed: the
+// other side (plus sign), Norton's "crossed" circuit. In a crank-rocker the branch never changes
+// during the revolution, so the run file fixes it.
 enum class Branch { open, crossed };
 
 // Grashof classes (Norton, Design of Machinery, sec. 2.12; Shigley & Uicker, Theory of Machines

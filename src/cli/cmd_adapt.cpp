@@ -135,8 +135,8 @@ class OperatorSource final : public TrialSource {
   bool drives_hardware() const override { return true; }
   std::optional<Measurement> measure(std::size_t trial, std::int64_t cell,
                                      const std::vector<double>& genome) override {
-    std::cerr << "trial " << trial << ": run the genome of cell " << cell << " ("
-              << genome.size() << " values):\n"
+    std::cerr << "trial " << trial << ": run the genome of cell " << cell << " (" << genome.size()
+              << " values):\n"
               << vector_text(genome) << "\n";
     for (;;) {
       std::cerr << "measured performance (a number; 'stop' or end of input ends the trials): "
@@ -171,8 +171,10 @@ std::vector<std::string> split_command(const std::string& text) {
   char quote = 0;
   for (char c : text) {
     if (quote) {
-      if (c == quote) quote = 0;
-      else word += c;
+      if (c == quote)
+        quote = 0;
+      else
+        word += c;
     } else if (c == '"' || c == '\'') {
       quote = c;
       in_word = true;
@@ -210,8 +212,9 @@ int run_adapt(const AdaptOptions& o) {
   if (!o.trial_process.empty() && o.ask)
     throw InputError("--trial-process and --ask both give the measurements: choose one");
   if (o.run_file.empty() && o.trial_process.empty() && !o.ask)
-    throw InputError("say where the trials run: --on RUNFILE (simulation), --trial-process CMD "
-                     "or --ask");
+    throw InputError(
+        "say where the trials run: --on RUNFILE (simulation), --trial-process CMD "
+        "or --ask");
   AdaptSettings settings;
   settings.max_trials = o.max_trials;
   settings.stop_fraction = o.stop_fraction;
@@ -302,9 +305,8 @@ int run_adapt(const AdaptOptions& o) {
     source = std::make_unique<ProblemSource>(problem, "simulation", false, info.fitness_lower);
   }
 
-  const std::vector<double> points =
-      normalise_descriptors(map.descriptor, map.descriptor_bounds.lower,
-                            map.descriptor_bounds.upper);
+  const std::vector<double> points = normalise_descriptors(
+      map.descriptor, map.descriptor_bounds.lower, map.descriptor_bounds.upper);
   TrialAndError loop(points, d, prior, settings);
 
   TrialLog log;
@@ -327,8 +329,8 @@ int run_adapt(const AdaptOptions& o) {
     std::cout << "adapting with " << with_thousands(n) << " elites of " << o.archive
               << "; trials: " << source->name()
               << (o.run_file.empty() ? "" : " (" + o.run_file + ")") << "\n"
-              << "prior: " << prior_text << "; kappa " << brief(settings.kappa)
-              << ", stop at " << brief(settings.stop_fraction) << " of the best prediction, at most "
+              << "prior: " << prior_text << "; kappa " << brief(settings.kappa) << ", stop at "
+              << brief(settings.stop_fraction) << " of the best prediction, at most "
               << settings.max_trials << " trials\n"
               << "trial      cell     prior   predicted   +/- sigma    measured\n";
   }
@@ -410,8 +412,8 @@ int run_adapt(const AdaptOptions& o) {
     out["max_predicted"] = loop.max_posterior_mean();
     if (best) {
       const TrialRecord& r = log.trials[*best];
-      out["choice"] = {{"trial", *best + 1}, {"cell", r.cell},          {"elite", r.elite},
-                       {"measured", r.measured}, {"prior", r.prior},    {"genome", r.genome},
+      out["choice"] = {{"trial", *best + 1},        {"cell", r.cell},   {"elite", r.elite},
+                       {"measured", r.measured},    {"prior", r.prior}, {"genome", r.genome},
                        {"descriptor", r.descriptor}};
     } else {
       out["choice"] = nullptr;

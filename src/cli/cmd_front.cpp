@@ -26,8 +26,9 @@ struct FrontOptions {
 
 int run_front(const FrontOptions& o) {
   if (o.objectives.size() < 2)
-    throw InputError("front: give two or more --objective NAME:min|max (NAME is fitness or a "
-                     "descriptor name)");
+    throw InputError(
+        "front: give two or more --objective NAME:min|max (NAME is fitness or a "
+        "descriptor name)");
   const ArchiveSnapshot s = read_archive_file(o.archive);
   const auto named = parse_objectives(o.objectives, s, o.archive);
   EliteFilter filter;
@@ -46,7 +47,8 @@ int run_front(const FrontOptions& o) {
   nlohmann::ordered_json header = nlohmann::ordered_json::array();
   std::vector<std::string> objective_names;
   for (const auto& n : named) {
-    header.push_back({{"name", n.name}, {"goal", n.objective.goal == Goal::minimize ? "min" : "max"}});
+    header.push_back(
+        {{"name", n.name}, {"goal", n.objective.goal == Goal::minimize ? "min" : "max"}});
     objective_names.push_back(n.name);
   }
   table.header["objectives"] = header;

@@ -48,7 +48,7 @@ int run_report(const ReportOptions& o) {
   settings.front_filter_text = describe_filter(settings.front_filter, s);
 
   settings.extra_panels = linkage_panels(s, o.archive);  // empty unless a linkage archive
-  for (auto& panel : arena_panels(s, o.archive))  // empty unless an arena archive
+  for (auto& panel : arena_panels(s, o.archive))         // empty unless an arena archive
     settings.extra_panels.push_back(std::move(panel));
   const auto files = build_report(s, settings);
   write_report_files(o.out_dir, files);

@@ -58,8 +58,7 @@ std::size_t descriptor_index(const ArchiveSnapshot& s, const std::string& archiv
 }
 
 std::vector<DescriptorInterval> parse_within(const std::vector<std::string>& specs,
-                                             const ArchiveSnapshot& s,
-                                             const std::string& archive) {
+                                             const ArchiveSnapshot& s, const std::string& archive) {
   std::vector<DescriptorInterval> out;
   for (const auto& spec : specs) {
     const auto eq = spec.rfind('=');
@@ -76,8 +75,7 @@ std::vector<DescriptorInterval> parse_within(const std::vector<std::string>& spe
 }
 
 std::vector<NamedObjective> parse_objectives(const std::vector<std::string>& specs,
-                                             const ArchiveSnapshot& s,
-                                             const std::string& archive) {
+                                             const ArchiveSnapshot& s, const std::string& archive) {
   std::vector<NamedObjective> out;
   for (const auto& spec : specs) {
     const auto colon = spec.rfind(':');
@@ -112,9 +110,8 @@ std::string describe_filter(const EliteFilter& f, const ArchiveSnapshot& s) {
   std::string out;
   if (f.min_fitness) out = "--min-fitness " + exact_number(*f.min_fitness);
   for (const auto& w : f.within)
-    out += (out.empty() ? "" : ", ") + std::string("--within ") +
-           s.descriptor_names[w.dimension] + "=" + exact_number(w.lower) + ":" +
-           exact_number(w.upper);
+    out += (out.empty() ? "" : ", ") + std::string("--within ") + s.descriptor_names[w.dimension] +
+           "=" + exact_number(w.lower) + ":" + exact_number(w.upper);
   return out.empty() ? "no constraints" : out;
 }
 

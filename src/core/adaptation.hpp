@@ -37,12 +37,12 @@ void check_adapt_settings(const AdaptSettings& settings);
 double stop_threshold(double max_mean, double stop_fraction);
 
 struct AdaptTrial {
-  std::size_t elite = 0;        // index into the map's elites
-  double prior = 0.0;           // the map's prediction before any trial
-  double predicted = 0.0;       // posterior mean when chosen
-  double sigma = 0.0;           // posterior standard deviation when chosen
-  double measured = 0.0;        // performance measured on the damaged robot
-  bool valid = true;            // false: the trial failed and counts as `measured` all the same
+  std::size_t elite = 0;   // index into the map's elites
+  double prior = 0.0;      // the map's prediction before any trial
+  double predicted = 0.0;  // posterior mean when chosen
+  double sigma = 0.0;      // posterior standard deviation when chosen
+  double measured = 0.0;   // performance measured on the damaged robot
+  bool valid = true;       // false: the trial failed and counts as `measured` all the same
 };
 
 // The loop as a state machine, so a caller can print, log or ask between trials.
@@ -61,11 +61,11 @@ class TrialAndError {
   void abort(std::string reason) { aborted_ = std::move(reason); }
 
   bool finished() const { return !next().has_value(); }
-  bool criterion_met() const;                      // best measured >= stop_threshold
-  std::string stop_reason() const;                 // one line; "" while running
+  bool criterion_met() const;       // best measured >= stop_threshold
+  std::string stop_reason() const;  // one line; "" while running
   double max_posterior_mean() const;
   const std::vector<AdaptTrial>& trials() const { return trials_; }
-  std::optional<std::size_t> best_trial() const;   // highest measured, first on ties
+  std::optional<std::size_t> best_trial() const;  // highest measured, first on ties
   const GaussianProcess& gp() const { return gp_; }
   std::size_t elite_count() const { return prior_.size(); }
   double posterior_mean(std::size_t elite) const { return gp_.query_mean(elite); }

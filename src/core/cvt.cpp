@@ -243,7 +243,7 @@ std::vector<double> lloyd_centroids(std::span<const double> points, std::size_t 
   return centroids;
 }
 
-std::vector<double> compute_cvt_centroids(const Bounds& bounds, const CvtSettings& settings) {
+std::vector<double> tessellate_descriptor_box(const Bounds& bounds, const CvtSettings& settings) {
   const std::vector<double> samples = cvt_samples(bounds, settings);
   return lloyd_centroids(samples, bounds.size(), settings.cells, settings.iterations);
 }

@@ -22,7 +22,7 @@ struct CvtSettings {
   std::int64_t effective_samples() const;
 };
 
-// Changes whenever compute_cvt_centroids would give different centroids for the same settings
+// Changes whenever tessellate_descriptor_box would give different centroids for the same settings
 // (sampling, initialisation, stopping rule), so caches keyed by the settings can tell.
 inline constexpr std::uint32_t kCvtAlgorithmVersion = 1;
 
@@ -30,9 +30,9 @@ inline constexpr std::uint32_t kCvtAlgorithmVersion = 1;
 // samples come in fixed chunks, each drawn from its own stream keyed by (seed, chunk index), and
 // every sum is taken in sample order whatever the threads. Throws std::invalid_argument for
 // malformed bounds or settings (cells < 1 or above kMaxCells, samples < cells, iterations < 0).
-std::vector<double> compute_cvt_centroids(const Bounds& bounds, const CvtSettings& settings);
+std::vector<double> tessellate_descriptor_box(const Bounds& bounds, const CvtSettings& settings);
 
-// The uniform samples of the box that compute_cvt_centroids clusters (row-major [N * D]).
+// The uniform samples of the box that tessellate_descriptor_box clusters (row-major [N * D]).
 std::vector<double> cvt_samples(const Bounds& bounds, const CvtSettings& settings);
 
 // Lloyd iterations on given points (row-major [N * dims]) starting from the first `cells`

@@ -53,8 +53,7 @@ bool dominates(const double* a, const double* b, std::size_t m) {
   return strictly;
 }
 
-std::vector<std::size_t> front_of_many(const std::vector<double>& v, std::size_t n,
-                                       std::size_t m) {
+std::vector<std::size_t> front_of_many(const std::vector<double>& v, std::size_t n, std::size_t m) {
   std::vector<std::size_t> order(n);
   std::iota(order.begin(), order.end(), std::size_t{0});
   std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
@@ -109,7 +108,8 @@ std::vector<std::size_t> elite_front(const ArchiveSnapshot& s, std::span<const s
   std::vector<Goal> goals(m);
   for (std::size_t j = 0; j < m; ++j) goals[j] = objectives[j].goal;
   for (std::size_t r = 0; r < rows.size(); ++r)
-    for (std::size_t j = 0; j < m; ++j) values[r * m + j] = objective_value(s, rows[r], objectives[j]);
+    for (std::size_t j = 0; j < m; ++j)
+      values[r * m + j] = objective_value(s, rows[r], objectives[j]);
   std::vector<std::size_t> front;
   for (std::size_t r : non_dominated(values, goals)) front.push_back(rows[r]);
   // Best-first on each objective in turn, then by row.

@@ -55,8 +55,9 @@ void GaussianProcess::add(std::span<const double> x, double y, double prior_mean
   }
   const double d2 = settings_.signal_variance + settings_.noise - l.squaredNorm();
   if (!(d2 > 0.0))
-    throw std::invalid_argument("GP covariance is not positive definite (repeated input with "
-                                "zero noise?)");
+    throw std::invalid_argument(
+        "GP covariance is not positive definite (repeated input with "
+        "zero noise?)");
   const double d = std::sqrt(d2);
 
   factor_.conservativeResize(n + 1, n + 1);

@@ -67,9 +67,9 @@ class GaussianProcess {
 
   std::vector<double> query_points_;  // [m * dims]
   std::vector<double> query_prior_;
-  Eigen::MatrixXd query_v_;           // L^-1 k(X, Q), n x m (row j added with observation j)
-  Eigen::VectorXd query_mean_;        // prior + V^T beta
-  Eigen::VectorXd query_var_;         // s2 - column sums of V^2
+  Eigen::MatrixXd query_v_;     // L^-1 k(X, Q), n x m (row j added with observation j)
+  Eigen::VectorXd query_mean_;  // prior + V^T beta
+  Eigen::VectorXd query_var_;   // s2 - column sums of V^2
 };
 
 }  // namespace tessera

@@ -107,7 +107,8 @@ class TreeOf final : public NearestElites::Tree {
   // Leaf size 10: within a few percent of the best for 2-8 dimensions (bench/bench_query).
   explicit TreeOf(PointCloud cloud)
       : cloud_(cloud),
-        index_(static_cast<int>(cloud.dims), cloud_, nanoflann::KDTreeSingleIndexAdaptorParams(10)) {}
+        index_(static_cast<int>(cloud.dims), cloud_,
+               nanoflann::KDTreeSingleIndexAdaptorParams(10)) {}
 
   void search(const double* x, OrderedNearest& result) const override {
     index_.findNeighbors(result, x, nanoflann::SearchParams());
@@ -120,15 +121,24 @@ class TreeOf final : public NearestElites::Tree {
 
 std::unique_ptr<NearestElites::Tree> make_tree(PointCloud cloud) {
   switch (cloud.dims) {
-    case 1: return std::make_unique<TreeOf<1>>(cloud);
-    case 2: return std::make_unique<TreeOf<2>>(cloud);
-    case 3: return std::make_unique<TreeOf<3>>(cloud);
-    case 4: return std::make_unique<TreeOf<4>>(cloud);
-    case 5: return std::make_unique<TreeOf<5>>(cloud);
-    case 6: return std::make_unique<TreeOf<6>>(cloud);
-    case 7: return std::make_unique<TreeOf<7>>(cloud);
-    case 8: return std::make_unique<TreeOf<8>>(cloud);
-    default: return std::make_unique<TreeOf<-1>>(cloud);
+    case 1:
+      return std::make_unique<TreeOf<1>>(cloud);
+    case 2:
+      return std::make_unique<TreeOf<2>>(cloud);
+    case 3:
+      return std::make_unique<TreeOf<3>>(cloud);
+    case 4:
+      return std::make_unique<TreeOf<4>>(cloud);
+    case 5:
+      return std::make_unique<TreeOf<5>>(cloud);
+    case 6:
+      return std::make_unique<TreeOf<6>>(cloud);
+    case 7:
+      return std::make_unique<TreeOf<7>>(cloud);
+    case 8:
+      return std::make_unique<TreeOf<8>>(cloud);
+    default:
+      return std::make_unique<TreeOf<-1>>(cloud);
   }
 }
 
@@ -173,8 +183,7 @@ std::vector<double> NearestElites::scale(std::span<const double> target) const {
   return x;
 }
 
-std::vector<Neighbour> NearestElites::nearest(std::span<const double> target,
-                                              std::size_t k) const {
+std::vector<Neighbour> NearestElites::nearest(std::span<const double> target, std::size_t k) const {
   const std::vector<double> x = scale(target);
   std::vector<Neighbour> out;
   if (k == 0 || !tree_) return out;

@@ -163,7 +163,8 @@ class WorkerPool {
         shut_down_workers();
         ::close(wake_fd_);
         ::close(log_fd_);
-        throw InputError(spec.source + ": cannot start worker '" + label_ + "': " + error);
+        throw InputError((spec.source.empty() ? std::string("process problem") : spec.source) +
+                         ": cannot start worker '" + label_ + "': " + error);
       }
     }
     thread_ = std::thread([this] { run(); });
@@ -242,6 +243,8 @@ class WorkerPool {
     posix_spawn_file_actions_adddup2(&actions, out_pipe[1], 1);
     posix_spawn_file_actions_adddup2(&actions, log_fd_, 2);
     // The I/O thread blocks SIGPIPE; workers start with an empty mask and default handlers.
+    // Their own process group keeps a Ctrl-C in the terminal from killing them mid-batch:
+    // tessera finishes the batch in flight, then ends them.
     posix_spawnattr_t attributes;
     posix_spawnattr_init(&attributes);
     sigset_t empty, defaults;
@@ -250,7 +253,9 @@ class WorkerPool {
     sigaddset(&defaults, SIGPIPE);
     posix_spawnattr_setsigmask(&attributes, &empty);
     posix_spawnattr_setsigdefault(&attributes, &defaults);
-    posix_spawnattr_setflags(&attributes, POSIX_SPAWN_SETSIGMASK | POSIX_SPAWN_SETSIGDEF);
+    posix_spawnattr_setpgroup(&attributes, 0);
+    posix_spawnattr_setflags(
+        &attributes, POSIX_SPAWN_SETSIGMASK | POSIX_SPAWN_SETSIGDEF | POSIX_SPAWN_SETPGROUP);
     std::vector<char*> argv;
     for (const auto& word : command_) argv.push_back(const_cast<char*>(word.c_str()));
     argv.push_back(nullptr);

@@ -22,7 +22,11 @@
 //   "wrong descriptor length"  a descriptor without exactly D numbers
 //   "worker error"             an {"error": ...} answer
 // A line that cannot be matched to a request it holds is charged to the worker's oldest request,
-// since the protocol gives one line per request. Workers' stderr is appended to log_path.
+// since the protocol gives one line per request. The timeout clock of a worker runs while it
+// holds requests and restarts at each answer, so a freshly started worker's first answer must
+// also cover its start-up. Workers' stderr is appended to log_path; they run in their own
+// process group, with the user's rights, and are ended (stdin closed, then SIGKILL) when the
+// problem is destroyed.
 #pragma once
 
 #include <memory>

@@ -178,7 +178,7 @@ std::vector<double> load_or_compute_cvt(const Bounds& bounds, const CvtSettings&
   std::filesystem::path path;
   if constexpr (std::endian::native == std::endian::little) path = cvt_cache_path(bounds, settings);
   if (path.empty()) {
-    auto centroids = compute_cvt_centroids(bounds, settings);
+    auto centroids = tessellate_descriptor_box(bounds, settings);
     say("computed " + what + " (no cache folder)");
     return centroids;
   }
@@ -198,7 +198,7 @@ std::vector<double> load_or_compute_cvt(const Bounds& bounds, const CvtSettings&
     return centroids;
   }
 
-  centroids = compute_cvt_centroids(bounds, settings);
+  centroids = tessellate_descriptor_box(bounds, settings);
   std::string write_fault;
   bool written = false;
   try {

@@ -123,10 +123,14 @@ void write_table_csv(std::ostream& out, const Table& t) {
 }
 
 void write_table(std::ostream& out, const Table& t, std::string_view format) {
-  if (format == "json") write_table_json(out, t);
-  else if (format == "csv") write_table_csv(out, t);
-  else if (format == "text") write_table_text(out, t);
-  else throw std::invalid_argument("table: unknown format " + std::string(format));
+  if (format == "json")
+    write_table_json(out, t);
+  else if (format == "csv")
+    write_table_csv(out, t);
+  else if (format == "text")
+    write_table_text(out, t);
+  else
+    throw std::invalid_argument("table: unknown format " + std::string(format));
 }
 
 }  // namespace tessera

@@ -25,7 +25,7 @@ struct TableColumn {
 };
 
 struct Table {
-  std::string list_key;                     // JSON: {"<list_key>": [ {column: value}, ... ]}
+  std::string list_key;  // JSON: {"<list_key>": [ {column: value}, ... ]}
   nlohmann::ordered_json header = nlohmann::ordered_json::object();  // JSON: extra keys
   std::vector<TableColumn> columns;
   std::vector<std::vector<TableValue>> rows;

@@ -1,8 +1,8 @@
 #include "io/targets_csv.hpp"
 
 #include <charconv>
-#include <filesystem>
 #include <cmath>
+#include <filesystem>
 #include <fstream>
 #include <map>
 
@@ -23,8 +23,8 @@ std::vector<std::string> split(const std::string& line) {
   std::size_t start = 0;
   while (true) {
     const auto comma = line.find(',', start);
-    out.push_back(trim(line.substr(start, comma == std::string::npos ? std::string::npos
-                                                                     : comma - start)));
+    out.push_back(
+        trim(line.substr(start, comma == std::string::npos ? std::string::npos : comma - start)));
     if (comma == std::string::npos) break;
     start = comma + 1;
   }

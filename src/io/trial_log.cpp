@@ -43,8 +43,7 @@ void dataset(H5::Group& group, const char* name, const H5::PredType& file_type,
   const hsize_t chunk[2] = {std::max<hsize_t>(rows, 1), std::max<hsize_t>(cols, 1)};
   H5::DSetCreatPropList props;
   props.setChunk(rank, chunk);
-  H5::DataSet ds =
-      group.createDataSet(name, file_type, H5::DataSpace(rank, dims, max_dims), props);
+  H5::DataSet ds = group.createDataSet(name, file_type, H5::DataSpace(rank, dims, max_dims), props);
   if (rows > 0) ds.write(data.data(), memory_type);
 }
 
@@ -120,8 +119,9 @@ void write_trial_log(const std::string& path, const TrialLog& log) {
   H5::Exception::dontPrint();
   try {
     const int fd = ::open(temp.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0666);
-    if (fd < 0) throw std::runtime_error(std::string("cannot create ") + temp.string() + ": " +
-                                         std::strerror(errno));
+    if (fd < 0)
+      throw std::runtime_error(std::string("cannot create ") + temp.string() + ": " +
+                               std::strerror(errno));
     ::close(fd);
     try {
       H5::FileAccPropList access;

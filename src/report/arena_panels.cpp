@@ -21,8 +21,8 @@ std::string num(double v) {
 }
 
 // Distinct colours for the best paths (best first), readable on white.
-const char* const kPathColours[] = {"#d62728", "#1f77b4", "#2ca02c", "#9467bd", "#ff7f0e",
-                                    "#8c564b", "#e377c2", "#17becf"};
+const char* const kPathColours[] = {"#d62728", "#1f77b4", "#2ca02c", "#9467bd",
+                                    "#ff7f0e", "#8c564b", "#e377c2", "#17becf"};
 
 }  // namespace
 
@@ -38,12 +38,14 @@ std::string arena_svg(const std::string& title, const ArenaScene& scene, double 
     b += "<line x1=\"" + px(w.a.x) + "\" y1=\"" + py(w.a.y) + "\" x2=\"" + px(w.b.x) + "\" y2=\"" +
          py(w.b.y) + "\" stroke=\"#222\" stroke-width=\"2.5\" stroke-linecap=\"round\"/>\n";
   for (const auto& m : l.marks)
-    b += "<circle cx=\"" + px(m.at.x) + "\" cy=\"" + py(m.at.y) + "\" r=\"" + num(m.radius * scale) +
+    b += "<circle cx=\"" + px(m.at.x) + "\" cy=\"" + py(m.at.y) + "\" r=\"" +
+         num(m.radius * scale) +
          "\" fill=\"none\" stroke=\"#888\" stroke-dasharray=\"4 3\"/>\n<text x=\"" + px(m.at.x) +
          "\" y=\"" + py(m.at.y) + "\" font-size=\"10\" fill=\"#666\" text-anchor=\"middle\">" +
          xml_escape(m.name) + "</text>\n";
   b += "<circle cx=\"" + px(l.goal.x) + "\" cy=\"" + py(l.goal.y) + "\" r=\"" +
-       num(l.goal_radius * scale) + "\" fill=\"#2ca02c\" fill-opacity=\"0.25\" stroke=\"#2ca02c\"/>\n";
+       num(l.goal_radius * scale) +
+       "\" fill=\"#2ca02c\" fill-opacity=\"0.25\" stroke=\"#2ca02c\"/>\n";
   for (const auto& p : scene.finals)
     b += "<circle cx=\"" + px(p.x) + "\" cy=\"" + py(p.y) +
          "\" r=\"2\" fill=\"#555\" fill-opacity=\"0.45\"/>\n";
@@ -66,9 +68,10 @@ std::string arena_svg(const std::string& title, const ArenaScene& scene, double 
        "elites</text>\n";
   for (std::size_t i = 0; i < scene.paths.size() && i < scene.path_labels.size(); ++i) {
     y += 15;
-    b += "<rect x=\"" + num(left) + "\" y=\"" + num(y - 9) + "\" width=\"14\" height=\"4\" fill=\"" +
-         kPathColours[i % std::size(kPathColours)] + "\"/><text x=\"" + num(left + 20) + "\" y=\"" +
-         num(y) + "\" font-size=\"11\">" + xml_escape(scene.path_labels[i]) + "</text>\n";
+    b += "<rect x=\"" + num(left) + "\" y=\"" + num(y - 9) +
+         "\" width=\"14\" height=\"4\" fill=\"" + kPathColours[i % std::size(kPathColours)] +
+         "\"/><text x=\"" + num(left + 20) + "\" y=\"" + num(y) + "\" font-size=\"11\">" +
+         xml_escape(scene.path_labels[i]) + "</text>\n";
   }
   return svg_element(width + 2 * left, y + 14, title, b);
 }
@@ -85,8 +88,8 @@ std::vector<ReportPanel> arena_panels(const ArchiveSnapshot& s, const std::strin
       options_text = text.str();
     }
   } catch (const toml::parse_error& e) {
-    throw InputError(label + ": the stored run file is not valid TOML: " +
-                     std::string(e.description()));
+    throw InputError(label +
+                     ": the stored run file is not valid TOML: " + std::string(e.description()));
   }
   ArenaScene scene;
   arena::ArenaOptions options;
@@ -125,13 +128,13 @@ std::vector<ReportPanel> arena_panels(const ArchiveSnapshot& s, const std::strin
                                 tick_label(ep.path_length) + " m, area covered " +
                                 tick_label(100.0 * ep.area_covered) + "%");
   }
-  return {{"Arena: final positions and the best paths",
-           arena_svg("Arena, final positions and the " + std::to_string(order.size()) +
-                         " best paths",
-                     scene),
-           "The arena to scale (walls black), the final position of every elite, and the paths "
-           "of the fittest elites re-run with the stored options. Fitness is minus the final "
-           "distance to the goal."}};
+  return {
+      {"Arena: final positions and the best paths",
+       arena_svg("Arena, final positions and the " + std::to_string(order.size()) + " best paths",
+                 scene),
+       "The arena to scale (walls black), the final position of every elite, and the paths "
+       "of the fittest elites re-run with the stored options. Fitness is minus the final "
+       "distance to the goal."}};
 }
 
 }  // namespace tessera

@@ -15,8 +15,8 @@ namespace tessera {
 
 struct ArenaScene {
   arena::Layout layout;
-  std::vector<arena::Vec2> finals;                // final positions of every elite
-  std::vector<std::vector<arena::Vec2>> paths;    // best first
+  std::vector<arena::Vec2> finals;              // final positions of every elite
+  std::vector<std::vector<arena::Vec2>> paths;  // best first
   std::vector<std::string> path_labels;
 };
 

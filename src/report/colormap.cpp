@@ -22,7 +22,9 @@ constexpr std::array<Rgb, 10> kCividis = {{{0x00, 0x20, 0x4D},
 
 }  // namespace
 
-std::span<const Rgb> cividis_anchors() { return kCividis; }
+std::span<const Rgb> cividis_anchors() {
+  return kCividis;
+}
 
 Rgb cividis(double t) {
   if (!(t > 0.0)) t = 0.0;  // also maps NaN to the start

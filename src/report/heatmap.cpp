@@ -73,8 +73,9 @@ Heatmap make_heatmap(const ArchiveSnapshot& s, std::size_t ax, std::size_t ay) {
     for (std::size_t e = 0; e < n; ++e)
       keep_max(m.polygon_values[static_cast<std::size_t>(s.cell[e])], s.fitness[e]);
     value_range(m.polygon_values);
-    m.note = "Each polygon is a CVT cell (Voronoi region of its centroid, clipped to the bounds) "
-             "coloured by its elite's fitness; white cells hold no elite.";
+    m.note =
+        "Each polygon is a CVT cell (Voronoi region of its centroid, clipped to the bounds) "
+        "coloured by its elite's fitness; white cells hold no elite.";
     return m;
   }
 
@@ -104,8 +105,9 @@ Heatmap make_heatmap(const ArchiveSnapshot& s, std::size_t ax, std::size_t ay) {
           one ? 0 : square_of(s.descriptor[e * d + ay], m.y_lower, m.y_upper, m.ny);
       keep_max(m.lattice[static_cast<std::size_t>(ky * m.nx + kx)], s.fitness[e]);
     }
-    m.note = "Each square shows the best elite whose descriptor projects onto it; white: no "
-             "elite.";
+    m.note =
+        "Each square shows the best elite whose descriptor projects onto it; white: no "
+        "elite.";
   }
   value_range(m.lattice);
   return m;
@@ -129,15 +131,17 @@ std::string heatmap_svg(const Heatmap& m, const std::string& title) {
       for (std::size_t i = 1; i < poly.size(); ++i)
         d += (i > 1 ? " " : "") + num(f.px(poly[i].x)) + " " + num(f.py(poly[i].y));
       d += "Z";
-      if (std::isnan(m.polygon_values[c])) empty += d;
-      else paths[level(m.polygon_values[c])] += d;
+      if (std::isnan(m.polygon_values[c]))
+        empty += d;
+      else
+        paths[level(m.polygon_values[c])] += d;
     }
     body += "<path fill=\"none\" stroke=\"#d4d4d4\" stroke-width=\"0.5\" d=\"" + empty + "\"/>\n";
     for (const auto& [l, d] : paths) {
       const std::string c = hex_colour(cividis(l / 255.0));
       // A thin stroke of the fill colour hides anti-aliasing seams between neighbours.
-      body += "<path fill=\"" + c + "\" stroke=\"" + c + "\" stroke-width=\"0.4\" d=\"" + d +
-              "\"/>\n";
+      body +=
+          "<path fill=\"" + c + "\" stroke=\"" + c + "\" stroke-width=\"0.4\" d=\"" + d + "\"/>\n";
     }
   } else {
     for (std::int64_t iy = 0; iy < m.ny; ++iy)
@@ -167,8 +171,9 @@ std::string heatmap_svg(const Heatmap& m, const std::string& title) {
              "\" stop-color=\"" + hex_colour(anchors[i]) + "\"/>";
   body += "<defs><linearGradient id=\"tessera-heat-scale\" x1=\"0\" y1=\"1\" x2=\"0\" y2=\"0\">" +
           stops + "</linearGradient></defs>\n";
-  body += "<rect x=\"505\" y=\"40\" width=\"18\" height=\"400\" fill=\"url(#tessera-heat-scale)\" "
-          "stroke=\"#555\"/>\n<g font-size=\"11\">";
+  body +=
+      "<rect x=\"505\" y=\"40\" width=\"18\" height=\"400\" fill=\"url(#tessera-heat-scale)\" "
+      "stroke=\"#555\"/>\n<g font-size=\"11\">";
   PlotFrame bar{505, 40, 18, 400};
   bar.y0 = m.value_min, bar.y1 = m.value_max;
   pad_range(bar.y0, bar.y1);
@@ -179,10 +184,12 @@ std::string heatmap_svg(const Heatmap& m, const std::string& title) {
             "</text>";
     if (!(m.value_max > m.value_min)) break;
   }
-  body += "</g>\n<text transform=\"translate(590,240) rotate(-90)\" text-anchor=\"middle\" "
-          "font-size=\"13\">fitness</text>\n";
-  body += "<rect x=\"505\" y=\"462\" width=\"18\" height=\"12\" fill=\"#fff\" stroke=\"#555\"/>"
-          "<text x=\"531\" y=\"472\" font-size=\"11\">no elite</text>\n";
+  body +=
+      "</g>\n<text transform=\"translate(590,240) rotate(-90)\" text-anchor=\"middle\" "
+      "font-size=\"13\">fitness</text>\n";
+  body +=
+      "<rect x=\"505\" y=\"462\" width=\"18\" height=\"12\" fill=\"#fff\" stroke=\"#555\"/>"
+      "<text x=\"531\" y=\"472\" font-size=\"11\">no elite</text>\n";
   return svg_element(610, 500, title, body);
 }
 

@@ -41,14 +41,17 @@ std::string vector_text(const std::vector<double>& v) {
 std::string slug(const std::string& title) {
   std::string out;
   for (unsigned char c : title) {
-    if (std::isalnum(c)) out += static_cast<char>(std::tolower(c));
-    else if (!out.empty() && out.back() != '-') out += '-';
+    if (std::isalnum(c))
+      out += static_cast<char>(std::tolower(c));
+    else if (!out.empty() && out.back() != '-')
+      out += '-';
   }
   while (!out.empty() && out.back() == '-') out.pop_back();
   return out.substr(0, 40);
 }
 
-const char* kStyle = R"(body{font-family:sans-serif;max-width:1240px;margin:1.5em auto;padding:0 1em;color:#222}
+const char* kStyle =
+    R"(body{font-family:sans-serif;max-width:1240px;margin:1.5em auto;padding:0 1em;color:#222}
 h1{font-size:1.5em;margin-bottom:.2em}h2{font-size:1.2em;border-bottom:1px solid #ccc;padding-bottom:.2em;margin-top:1.6em}
 .sub{color:#555;margin-top:0}.plots{display:flex;flex-wrap:wrap;gap:12px}.note{color:#444;font-size:.92em;max-width:900px}
 table{border-collapse:collapse;font-size:.92em}td,th{border:1px solid #ddd;padding:3px 8px;text-align:left;vertical-align:top}
@@ -64,7 +67,8 @@ std::string summary_table(const ArchiveSummary& s, const std::string& extra_key,
   rows.push_back({"problem", s.problem});
   rows.push_back({"written by", "tessera " + s.tool_version});
   rows.push_back({"seed", std::to_string(s.seed)});
-  std::string space = s.space_kind + ", " + thousands(static_cast<std::uint64_t>(s.cells)) + " cells";
+  std::string space =
+      s.space_kind + ", " + thousands(static_cast<std::uint64_t>(s.cells)) + " cells";
   if (!s.resolution.empty()) {
     std::string res;
     for (std::size_t i = 0; i < s.resolution.size(); ++i)
@@ -105,7 +109,9 @@ std::string section(const std::string& title, const std::string& inner) {
   return "<section>\n<h2>" + xml_escape(title) + "</h2>\n" + inner + "</section>\n";
 }
 
-std::string note(const std::string& text) { return "<p class=\"note\">" + xml_escape(text) + "</p>\n"; }
+std::string note(const std::string& text) {
+  return "<p class=\"note\">" + xml_escape(text) + "</p>\n";
+}
 
 }  // namespace
 
@@ -115,7 +121,8 @@ std::vector<ReportFile> build_report(const ArchiveSnapshot& s, const ReportSetti
 
   // Map.
   const Heatmap map = make_heatmap(s, o.axis_x, o.axis_y);
-  std::string map_title = "Fitness map: " + map.x_name + (map.y_name.empty() ? "" : " × " + map.y_name);
+  std::string map_title =
+      "Fitness map: " + map.x_name + (map.y_name.empty() ? "" : " × " + map.y_name);
   const std::string map_svg = heatmap_svg(map, map_title);
   const auto png = encode_png(heatmap_image(map, o.png_side));
   files.push_back({"heatmap.svg", svg_file(map_svg)});
@@ -123,8 +130,9 @@ std::vector<ReportFile> build_report(const ArchiveSnapshot& s, const ReportSetti
   std::string map_note = map.note;
   if (s.descriptor_size() > 2 && !o.axes_chosen)
     map_note += " Axes: the first two descriptors; choose others with --axes NAME1,NAME2.";
-  map_note += " Colours: cividis (Nuñez, Anderton & Renslow, PLOS ONE 2018), from the lowest "
-              "to the highest fitness shown.";
+  map_note +=
+      " Colours: cividis (Nuñez, Anderton & Renslow, PLOS ONE 2018), from the lowest "
+      "to the highest fitness shown.";
 
   // Progress curves.
   std::vector<double> evals, coverage, qd, best;
@@ -160,8 +168,8 @@ std::vector<ReportFile> build_report(const ArchiveSnapshot& s, const ReportSetti
       fx.push_back(objective_value(s, r, o.objectives[0]));
       fy.push_back(objective_value(s, r, o.objectives[1]));
     }
-    const std::string title = "Trade-off front: " + thousands(front.size()) + " of " +
-                              thousands(rows.size()) + " elites";
+    const std::string title =
+        "Trade-off front: " + thousands(front.size()) + " of " + thousands(rows.size()) + " elites";
     std::string inner;
     if (rows.empty()) {
       inner = note("No elite satisfies the constraints (" + o.front_filter_text + ").");
@@ -173,9 +181,9 @@ std::vector<ReportFile> build_report(const ArchiveSnapshot& s, const ReportSetti
       std::string objectives_text;
       for (std::size_t j = 0; j < o.objectives.size(); ++j)
         objectives_text += (j ? ", " : "") + axis_name(j);
-      inner += note("Objectives: " + objectives_text + ". Constraints: " + o.front_filter_text +
-                    "." + (o.objectives.size() > 2 ? " The plot shows the first two objectives."
-                                                   : ""));
+      inner +=
+          note("Objectives: " + objectives_text + ". Constraints: " + o.front_filter_text + "." +
+               (o.objectives.size() > 2 ? " The plot shows the first two objectives." : ""));
       inner += "<table><tr><th>rank</th><th>cell</th>";
       for (std::size_t j = 0; j < o.objectives.size(); ++j)
         inner += "<th>" + xml_escape(axis_name(j)) + "</th>";
@@ -206,14 +214,14 @@ std::vector<ReportFile> build_report(const ArchiveSnapshot& s, const ReportSetti
           xml_escape(o.archive_label) + " · " + thousands(s.evaluations) + " evaluations · " +
           thousands(s.elite_count()) + " elites</p>\n";
   html += section("Summary", summary_table(summary, front_key, front_value));
-  html += section("Map of the elites", "<div class=\"plots\">\n" + map_svg + "</div>\n" +
-                                           note(map_note));
-  html += section("Progress", "<div class=\"plots\">\n" + coverage_svg + qd_svg + max_svg +
-                                  "</div>\n" +
-                                  note("Recorded after each batch: the fraction of cells holding "
-                                       "an elite, the QD-score (sum over elites of fitness minus "
-                                       "the offset; Pugh, Soros & Stanley 2016) and the best "
-                                       "fitness so far."));
+  html += section("Map of the elites",
+                  "<div class=\"plots\">\n" + map_svg + "</div>\n" + note(map_note));
+  html +=
+      section("Progress", "<div class=\"plots\">\n" + coverage_svg + qd_svg + max_svg + "</div>\n" +
+                              note("Recorded after each batch: the fraction of cells holding "
+                                   "an elite, the QD-score (sum over elites of fitness minus "
+                                   "the offset; Pugh, Soros & Stanley 2016) and the best "
+                                   "fitness so far."));
   html += front_section;
   for (std::size_t i = 0; i < o.extra_panels.size(); ++i) {
     const auto& p = o.extra_panels[i];
@@ -223,9 +231,10 @@ std::vector<ReportFile> build_report(const ArchiveSnapshot& s, const ReportSetti
     html += section(p.title, "<div class=\"plots\">\n" + p.svg + "</div>\n" +
                                  (p.caption.empty() ? "" : note(p.caption)));
   }
-  html += "<p class=\"note\">Standalone files beside this page: heatmap.svg, heatmap.png, "
-          "coverage.svg, qd-score.svg, max-fitness.svg" +
-          std::string(front_section.empty() ? "" : ", front.svg") + ".</p>\n</body>\n</html>\n";
+  html +=
+      "<p class=\"note\">Standalone files beside this page: heatmap.svg, heatmap.png, "
+      "coverage.svg, qd-score.svg, max-fitness.svg" +
+      std::string(front_section.empty() ? "" : ", front.svg") + ".</p>\n</body>\n</html>\n";
   files.insert(files.begin(), {"index.html", html});
   return files;
 }

@@ -22,15 +22,15 @@ struct ReportPanel {
 };
 
 struct ReportSettings {
-  std::string archive_label;         // how the page names the archive (e.g. its path)
+  std::string archive_label;           // how the page names the archive (e.g. its path)
   std::size_t axis_x = 0, axis_y = 1;  // descriptor indices of the map's axes
-  bool axes_chosen = false;          // the user picked the axes (--axes)
-  std::vector<Objective> objectives; // front shown when two or more
+  bool axes_chosen = false;            // the user picked the axes (--axes)
+  std::vector<Objective> objectives;   // front shown when two or more
   std::vector<std::string> objective_names;
-  EliteFilter front_filter;          // constraints on the front's candidates
-  std::string front_filter_text;     // their description, for the page
+  EliteFilter front_filter;       // constraints on the front's candidates
+  std::string front_filter_text;  // their description, for the page
   std::vector<ReportPanel> extra_panels;
-  std::size_t png_side = 512;        // about this many pixels across the PNG map
+  std::size_t png_side = 512;  // about this many pixels across the PNG map
 };
 
 struct ReportFile {
@@ -39,7 +39,8 @@ struct ReportFile {
 };
 
 // Everything in memory: nothing is written until all of it is ready.
-std::vector<ReportFile> build_report(const ArchiveSnapshot& snapshot, const ReportSettings& settings);
+std::vector<ReportFile> build_report(const ArchiveSnapshot& snapshot,
+                                     const ReportSettings& settings);
 
 // Creates `dir` if needed and writes each file whole under a temporary name, then renames it.
 // tessera::InputError "DIR: cannot write the report: ..." when the file system refuses.

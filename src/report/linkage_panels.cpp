@@ -91,8 +91,9 @@ const char* kPathStyle = "stroke=\"#00204d\" stroke-width=\"2\"";
 
 std::string dims_text(const lk::Dimensions& m, const std::string& u) {
   return "ground " + tick_label(m.ground) + ", crank " + tick_label(m.crank) + ", coupler " +
-         tick_label(m.coupler) + ", rocker " + tick_label(m.rocker) + ", coupler point " +
-         tick_label(m.point_distance) + " at " + tick_label(m.point_angle_deg) + " deg (" + u + ")";
+         tick_label(m.coupler) + ", rocker " + tick_label(m.rocker) + " " + u + "; coupler point " +
+         tick_label(m.point_distance) + " " + u + " from A at " + tick_label(m.point_angle_deg) +
+         " deg off A->B";
 }
 
 }  // namespace
@@ -124,10 +125,21 @@ std::string linkage_svg(const std::string& title, const LinkageDrawing& d, const
     body += dot(f, p.px, p.py, 4, "fill=\"#00204d\"");
   }
   body += pivots(f, m.ground);
-  const double height = f.top + f.height + 70;
-  body += "<text x=\"12\" y=\"" + num(height - 12) + "\" font-size=\"11\" fill=\"#222\">" +
-          xml_escape(d.label) + "</text>\n";
-  return svg_element(std::max(f.left + f.width + 30, 560.0), height, title, body);
+  // The label, one line per "; "-separated part.
+  std::vector<std::string> lines;
+  for (std::size_t start = 0;;) {
+    const std::size_t end = d.label.find("; ", start);
+    lines.push_back(d.label.substr(start, end - start));
+    if (end == std::string::npos) break;
+    start = end + 2;
+  }
+  double y = f.top + f.height + 62;
+  for (const auto& text : lines) {
+    body += "<text x=\"12\" y=\"" + num(y) + "\" font-size=\"12\" fill=\"#222\">" +
+            xml_escape(text) + "</text>\n";
+    y += 16;
+  }
+  return svg_element(std::max(f.left + f.width + 30, 560.0), y, title, body);
 }
 
 std::string coupler_paths_svg(const std::string& title, const std::vector<LinkageDrawing>& drawings,
@@ -137,14 +149,30 @@ std::string coupler_paths_svg(const std::string& title, const std::vector<Linkag
   for (std::size_t i = 0; i < drawings.size(); ++i) {
     const double cx = 10 + kCell * static_cast<double>(i % 3);
     const double cy = kTop + (kCell + 20) * static_cast<double>(i / 3);
-    const PlotFrame f = equal_frame(extent(drawings[i]), cx + 5, cy + 5, kCell - 20, kCell - 30);
+    const PlotFrame f = equal_frame(extent(drawings[i]), cx + 5, cy + 5, kCell - 20, kCell - 44);
     body += "<rect x=\"" + num(cx) + "\" y=\"" + num(cy) + "\" width=\"" + num(kCell - 10) +
             "\" height=\"" + num(kCell) + "\" fill=\"none\" stroke=\"#ddd\"/>\n";
-    body += line(f, 0.0, 0.0, drawings[i].dims.ground, 0.0, "stroke=\"#777\" stroke-width=\"2\"");
-    body += polyline(f, drawings[i].poses, &lk::Pose::px, &lk::Pose::py, true, kPathStyle);
-    body += pivots(f, drawings[i].dims.ground);
-    body += "<text x=\"" + num(cx + 6) + "\" y=\"" + num(cy + kCell - 8) +
-            "\" font-size=\"11\" fill=\"#222\">" + xml_escape(drawings[i].label) + "</text>\n";
+    const LinkageDrawing& d = drawings[i];
+    body += line(f, 0.0, 0.0, d.dims.ground, 0.0, "stroke=\"#777\" stroke-width=\"2\"");
+    if (!d.poses.empty()) {
+      // The links, thin, at a crank angle of 60 degrees.
+      const lk::Pose& p = d.poses[d.poses.size() / 6];
+      const std::string link = "stroke=\"#a65e00\" stroke-width=\"1.2\" stroke-opacity=\"0.7\"";
+      body += line(f, 0.0, 0.0, p.ax, p.ay, link);
+      body += line(f, d.dims.ground, 0.0, p.bx, p.by, link);
+      body += "<polygon points=\"" + num(f.px(p.ax)) + "," + num(f.py(p.ay)) + " " +
+              num(f.px(p.bx)) + "," + num(f.py(p.by)) + " " + num(f.px(p.px)) + "," +
+              num(f.py(p.py)) + "\" fill=\"#fdbf6f\" fill-opacity=\"0.3\" " + link + "/>\n";
+    }
+    body += polyline(f, d.poses, &lk::Pose::px, &lk::Pose::py, true, kPathStyle);
+    body += pivots(f, d.dims.ground);
+    const std::size_t cut = d.label.find("; ");
+    body += "<text x=\"" + num(cx + 6) + "\" y=\"" + num(cy + kCell - 22) +
+            "\" font-size=\"11\" fill=\"#222\">" + xml_escape(d.label.substr(0, cut)) + "</text>\n";
+    if (cut != std::string::npos)
+      body += "<text x=\"" + num(cx + 6) + "\" y=\"" + num(cy + kCell - 8) +
+              "\" font-size=\"11\" fill=\"#222\">" + xml_escape(d.label.substr(cut + 2)) +
+              "</text>\n";
   }
   const double rows = std::ceil(static_cast<double>(drawings.size()) / kColumns);
   return svg_element(20 + kCell * kColumns, kTop + rows * (kCell + 20) + 24, title,
@@ -163,7 +191,7 @@ std::vector<ReportPanel> linkage_panels(const ArchiveSnapshot& s, const std::str
     d.dims = elite_dimensions(s, row);
     d.poses = lk::trace(d.dims, options.settings.branch, options.settings.samples);
     d.label = tick_label(s.descriptor[row * dn]) + " x " + tick_label(s.descriptor[row * dn + 1]) +
-              " " + u + ", fitness " + tick_label(s.fitness[row]) + " deg";
+              " " + u + "; fitness " + tick_label(s.fitness[row]) + " deg";
     return d;
   };
 

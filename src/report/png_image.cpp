@@ -69,7 +69,8 @@ std::vector<std::uint8_t> encode_png(const RgbImage& image) {
   std::vector<std::uint8_t> header;
   put_u32(header, static_cast<std::uint32_t>(image.width));
   put_u32(header, static_cast<std::uint32_t>(image.height));
-  header.insert(header.end(), {8, 2, 0, 0, 0});  // depth 8, truecolour, deflate, filter 0, no interlace
+  header.insert(header.end(),
+                {8, 2, 0, 0, 0});  // depth 8, truecolour, deflate, filter 0, no interlace
   put_chunk(out, "IHDR", header);
   put_chunk(out, "IDAT", packed);
   put_chunk(out, "IEND", {});

@@ -15,12 +15,23 @@ std::string xml_escape(const std::string& text) {
   out.reserve(text.size());
   for (char c : text) {
     switch (c) {
-      case '&': out += "&amp;"; break;
-      case '<': out += "&lt;"; break;
-      case '>': out += "&gt;"; break;
-      case '"': out += "&quot;"; break;
-      case '\'': out += "&#39;"; break;
-      default: out += c;
+      case '&':
+        out += "&amp;";
+        break;
+      case '<':
+        out += "&lt;";
+        break;
+      case '>':
+        out += "&gt;";
+        break;
+      case '"':
+        out += "&quot;";
+        break;
+      case '\'':
+        out += "&#39;";
+        break;
+      default:
+        out += c;
     }
   }
   return out;
@@ -64,8 +75,12 @@ void pad_range(double& lo, double& hi) {
   }
 }
 
-double PlotFrame::px(double x) const { return left + (x - x0) / (x1 - x0) * width; }
-double PlotFrame::py(double y) const { return top + height - (y - y0) / (y1 - y0) * height; }
+double PlotFrame::px(double x) const {
+  return left + (x - x0) / (x1 - x0) * width;
+}
+double PlotFrame::py(double y) const {
+  return top + height - (y - y0) / (y1 - y0) * height;
+}
 
 namespace {
 
@@ -86,13 +101,13 @@ std::string PlotFrame::axes(const std::string& x_label, const std::string& y_lab
     const double x = px(t);
     s += "<line x1=\"" + num(x) + "\" y1=\"" + num(top + height) + "\" x2=\"" + num(x) +
          "\" y2=\"" + num(top + height + 5) + "\" stroke=\"#555\"/>";
-    s += "<text x=\"" + num(x) + "\" y=\"" + num(top + height + 18) +
-         "\" text-anchor=\"middle\">" + tick_label(t) + "</text>\n";
+    s += "<text x=\"" + num(x) + "\" y=\"" + num(top + height + 18) + "\" text-anchor=\"middle\">" +
+         tick_label(t) + "</text>\n";
   }
   for (double t : y_ticks ? nice_ticks(y0, y1, 5) : std::vector<double>{}) {
     const double y = py(t);
-    s += "<line x1=\"" + num(left - 5) + "\" y1=\"" + num(y) + "\" x2=\"" + num(left) +
-         "\" y2=\"" + num(y) + "\" stroke=\"#555\"/>";
+    s += "<line x1=\"" + num(left - 5) + "\" y1=\"" + num(y) + "\" x2=\"" + num(left) + "\" y2=\"" +
+         num(y) + "\" stroke=\"#555\"/>";
     s += "<text x=\"" + num(left - 8) + "\" y=\"" + num(y + 4) + "\" text-anchor=\"end\">" +
          tick_label(t) + "</text>\n";
   }
@@ -190,9 +205,9 @@ std::string front_chart_svg(const std::string& title, const std::string& x_label
   body += "<g font-size=\"11\"><rect x=\"" + num(f.left + 8) + "\" y=\"" + num(f.top + 8) +
           "\" width=\"4\" height=\"4\" fill=\"#b8b8b8\"/><text x=\"" + num(f.left + 18) +
           "\" y=\"" + num(f.top + 13) + "\">elites within the constraints</text>" +
-          "<circle cx=\"" + num(f.left + 10) + "\" cy=\"" + num(f.top + 24) + "\" r=\"3.5\" fill=\"" +
-          colour + "\"/><text x=\"" + num(f.left + 18) + "\" y=\"" + num(f.top + 28) +
-          "\">non-dominated front</text></g>\n";
+          "<circle cx=\"" + num(f.left + 10) + "\" cy=\"" + num(f.top + 24) +
+          "\" r=\"3.5\" fill=\"" + colour + "\"/><text x=\"" + num(f.left + 18) + "\" y=\"" +
+          num(f.top + 28) + "\">non-dominated front</text></g>\n";
   return svg_element(600, 480, title, body);
 }
 

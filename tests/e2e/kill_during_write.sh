@@ -51,6 +51,10 @@ EOF
     final=$("$TESSERA" inspect --format json "$archive" |
             /usr/bin/python3 -c 'import json,sys; print(json.load(sys.stdin)["evaluations"])')
     [ "$final" -eq "$budget" ] || fail "resumed run ended at $final evaluations, not $budget"
+    # The resumed run's writes remove the killed writer's temporary file.
+    for leftover in "$out"/.??*; do
+      [ -e "$leftover" ] && fail "still there after resume: $(basename "$leftover")"
+    done
   fi
 done
 

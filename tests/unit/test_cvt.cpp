@@ -81,7 +81,7 @@ std::int64_t brute_force_cell(const Bounds& b, const std::vector<double>& centro
 }
 
 CvtSpace make_space(const Bounds& b, const CvtSettings& s) {
-  return CvtSpace(b, names(b.size()), tessera::compute_cvt_centroids(b, s));
+  return CvtSpace(b, names(b.size()), tessera::tessellate_descriptor_box(b, s));
 }
 
 // A fresh folder under the system temporary folder, removed at scope exit.
@@ -353,14 +353,14 @@ TEST_CASE("CVT centroids are bit-identical for any number of threads", "[cvt]") 
     std::map<int, std::vector<double>> by_threads;
     for (int threads : {1, 2, 3}) {
       tbb::global_control limit(tbb::global_control::max_allowed_parallelism, threads);
-      by_threads[threads] = tessera::compute_cvt_centroids(b, s);
+      by_threads[threads] = tessera::tessellate_descriptor_box(b, s);
     }
     INFO("D = " << c.dims << ", K = " << c.cells);
     CHECK(by_threads[1] == by_threads[2]);  // exact equality of every double
     CHECK(by_threads[1] == by_threads[3]);
     // ...while a different seed gives different centroids (the comparison can fail).
     s.seed = 1235;
-    CHECK(tessera::compute_cvt_centroids(b, s) != by_threads[1]);
+    CHECK(tessera::tessellate_descriptor_box(b, s) != by_threads[1]);
   }
 }
 
@@ -368,17 +368,17 @@ TEST_CASE("CVT settings and centroid arrays are validated", "[cvt]") {
   const Bounds b = box(2, 0.0, 1.0);
   CvtSettings s;
   s.cells = 0;
-  CHECK_THROWS_AS(tessera::compute_cvt_centroids(b, s), std::invalid_argument);
+  CHECK_THROWS_AS(tessera::tessellate_descriptor_box(b, s), std::invalid_argument);
   s.cells = 100;
   s.samples = 99;
-  CHECK_THROWS_AS(tessera::compute_cvt_centroids(b, s), std::invalid_argument);
+  CHECK_THROWS_AS(tessera::tessellate_descriptor_box(b, s), std::invalid_argument);
   s.samples = 1000;
   s.iterations = -1;
-  CHECK_THROWS_AS(tessera::compute_cvt_centroids(b, s), std::invalid_argument);
+  CHECK_THROWS_AS(tessera::tessellate_descriptor_box(b, s), std::invalid_argument);
   s.iterations = 5;
-  CHECK_THROWS_AS(tessera::compute_cvt_centroids(Bounds{{0.0, 1.0}, {1.0, 1.0}}, s),
+  CHECK_THROWS_AS(tessera::tessellate_descriptor_box(Bounds{{0.0, 1.0}, {1.0, 1.0}}, s),
                   std::invalid_argument);
-  CHECK(tessera::compute_cvt_centroids(b, s).size() == 200);
+  CHECK(tessera::tessellate_descriptor_box(b, s).size() == 200);
   CHECK_THROWS_AS(CvtSpace(b, names(2), {0.1, 0.2, 0.3}), std::invalid_argument);
   CHECK_THROWS_AS(CvtSpace(b, names(2), {}), std::invalid_argument);
   CHECK_THROWS_AS(CvtSpace(b, names(2), {0.1, std::nan("")}), std::invalid_argument);

@@ -98,7 +98,7 @@ TEST_CASE("a second request is served from the cache, bit for bit", "[cvt-cache]
   TempDir dir;
   EnvVar env("TESSERA_CACHE_DIR", dir.path.c_str());
   const CvtSettings s = small_settings();
-  const std::vector<double> direct = tessera::compute_cvt_centroids(kBox, s);
+  const std::vector<double> direct = tessera::tessellate_descriptor_box(kBox, s);
 
   std::string note;
   const auto first = tessera::load_or_compute_cvt(kBox, s, &note);
@@ -127,7 +127,7 @@ TEST_CASE("a second request is served from the cache, bit for bit", "[cvt-cache]
     CHECK(tessera::cvt_cache_path(other, t) != file);
     const auto changed = tessera::load_or_compute_cvt(other, t, &note);
     CHECK(starts_with(note, "computed"));
-    CHECK(changed == tessera::compute_cvt_centroids(other, t));
+    CHECK(changed == tessera::tessellate_descriptor_box(other, t));
   }
 }
 
@@ -185,7 +185,7 @@ TEST_CASE("an unusable cache folder only turns caching off", "[cvt-cache]") {
   INFO(note);
   CHECK(starts_with(note, "computed"));
   CHECK(note.find("not cached") != std::string::npos);
-  CHECK(c == tessera::compute_cvt_centroids(kBox, s));
+  CHECK(c == tessera::tessellate_descriptor_box(kBox, s));
 
   EnvVar none("TESSERA_CACHE_DIR", nullptr), x("XDG_CACHE_HOME", nullptr), h("HOME", nullptr);
   CHECK(tessera::load_or_compute_cvt(kBox, s, &note) == c);

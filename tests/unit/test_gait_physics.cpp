@@ -88,7 +88,7 @@ std::vector<double> tripod() {
   return g;
 }
 
-constexpr double kG = 9.81;         // m/s^2, the gravity the model declares
+constexpr double kG = 9.81;          // m/s^2, the gravity the model declares
 constexpr double kTimestep = 0.005;  // s, the model's step
 
 }  // namespace
@@ -120,6 +120,10 @@ TEST_CASE("The body falls as g t^2 / 2 before contact", "[gait]") {
     INFO("t = " << t << ": height " << o.final_height << ", g t^2/2 predicts " << exact);
     CHECK(std::fabs(o.final_height - exact) <= 0.5 * kG * kTimestep * t + 1e-9);
     CHECK(o.final_height < exact);  // the scheme's error has this sign
+    // Exactly, after N steps of v += -g dt; z += v dt: z0 - g dt^2 N (N + 1) / 2.
+    const double n = std::round(t / kTimestep);
+    CHECK(o.final_height ==
+          Approx(1.0 - 0.5 * kG * kTimestep * kTimestep * n * (n + 1.0)).margin(1e-9));
     for (double d : o.duty) CHECK(d == 0.0);  // no foot touched the floor
   }
 }
@@ -164,7 +168,8 @@ TEST_CASE("Damage options change the robot as described", "[gait]") {
   SECTION("motors without strength let the body sink") {
     // Lift servos at zero strength: the legs fold under the weight and the torso drops.
     std::string weak = "motor_strength = [";
-    for (std::size_t j = 0; j < gait::kJoints; ++j) weak += (j ? ", " : "") + std::string(j % 2 ? "0" : "1");
+    for (std::size_t j = 0; j < gait::kJoints; ++j)
+      weak += (j ? ", " : "") + std::string(j % 2 ? "0" : "1");
     weak += "]";
     const Outcome intact = run("", stand), limp = run(weak, stand);
     CHECK(limp.final_height < intact.final_height - 0.02);

@@ -56,9 +56,8 @@ nlohmann::json sklearn_posterior(const nlohmann::json& input) {
     std::ofstream out(file);
     out << input.dump();  // nlohmann writes doubles in round-trip form
   }
-  const std::string command = "/usr/bin/python3 " TESSERA_SOURCE_DIR
-                              "/tests/reference/gp_sklearn.py " +
-                              file.string();
+  const std::string command =
+      "/usr/bin/python3 " TESSERA_SOURCE_DIR "/tests/reference/gp_sklearn.py " + file.string();
   FILE* pipe = popen(command.c_str(), "r");
   REQUIRE(pipe != nullptr);
   std::string text;

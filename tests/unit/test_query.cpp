@@ -14,7 +14,6 @@
 
 namespace {
 
-
 tessera::ArchiveSnapshot random_snapshot(tessera::Rng& rng, std::size_t n, std::size_t d,
                                          bool lattice) {
   tessera::ArchiveSnapshot s;
@@ -85,7 +84,8 @@ void check_against_exhaustive(tessera::Rng& rng, std::size_t n, std::size_t d, b
         CHECK(got[r].distance == scanned[r].distance);
         CHECK(got[r].distance == Approx(expected[r].first).margin(1e-12));
         // The same elites, except where rounding reorders exactly tied distances.
-        if (r + 1 < expected.size() && std::fabs(expected[r].first - expected[r + 1].first) > 1e-12 &&
+        if (r + 1 < expected.size() &&
+            std::fabs(expected[r].first - expected[r + 1].first) > 1e-12 &&
             (r == 0 || std::fabs(expected[r].first - expected[r - 1].first) > 1e-12))
           CHECK(got[r].elite == expected[r].second);
       }

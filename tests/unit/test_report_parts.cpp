@@ -2,9 +2,9 @@
 // the colour map's lightness (CIE L*, CIE 15:2004, from sRGB per IEC 61966-2-1), the PNG file
 // layout (PNG specification, ISO/IEC 15948, with CRC-32 of ISO 3309 written out here), CSV quoting
 // (RFC 4180) and the targets file rules of io/targets_csv.hpp.
-#include <catch2/catch.hpp>
 #include <unistd.h>
 #include <zlib.h>
+#include <catch2/catch.hpp>
 
 #include <cmath>
 #include <cstdio>
@@ -44,7 +44,8 @@ std::uint32_t crc32_reference(const std::uint8_t* data, std::size_t n) {
 }
 
 std::uint32_t be32(const std::uint8_t* p) {
-  return (std::uint32_t{p[0]} << 24) | (std::uint32_t{p[1]} << 16) | (std::uint32_t{p[2]} << 8) | p[3];
+  return (std::uint32_t{p[0]} << 24) | (std::uint32_t{p[1]} << 16) | (std::uint32_t{p[2]} << 8) |
+         p[3];
 }
 
 std::string write_temp(const std::string& name, const std::string& text) {
@@ -104,7 +105,8 @@ TEST_CASE("PNG: chunk layout, CRCs and pixel data follow the specification") {
       CHECK(png[at + 16] == 8);  // bit depth
       CHECK(png[at + 17] == 2);  // truecolour
     }
-    if (type == "IDAT") idat.insert(idat.end(), png.begin() + at + 8, png.begin() + at + 8 + length);
+    if (type == "IDAT")
+      idat.insert(idat.end(), png.begin() + at + 8, png.begin() + at + 8 + length);
     at += 12 + length;
   }
   CHECK(at == png.size());
