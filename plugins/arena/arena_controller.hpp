@@ -18,8 +18,11 @@ namespace tessera::arena {
 class NeuralController {
  public:
   NeuralController(std::size_t inputs, std::size_t hidden, bool recurrent)
-      : inputs_(inputs), hidden_(hidden), recurrent_(recurrent && hidden > 0),
-        activation_(hidden, 0.0), previous_(hidden, 0.0) {}
+      : inputs_(inputs),
+        hidden_(hidden),
+        recurrent_(recurrent && hidden > 0),
+        activation_(hidden, 0.0),
+        previous_(hidden, 0.0) {}
 
   static std::size_t weight_count(std::size_t inputs, std::size_t hidden, bool recurrent) {
     if (hidden == 0) return 2 * (inputs + 1);

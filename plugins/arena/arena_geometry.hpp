@@ -15,14 +15,26 @@ struct Vec2 {
   double y = 0.0;
 };
 
-inline Vec2 operator+(Vec2 a, Vec2 b) { return {a.x + b.x, a.y + b.y}; }
-inline Vec2 operator-(Vec2 a, Vec2 b) { return {a.x - b.x, a.y - b.y}; }
-inline Vec2 operator*(Vec2 a, double s) { return {a.x * s, a.y * s}; }
-inline double dot(Vec2 a, Vec2 b) { return a.x * b.x + a.y * b.y; }
-inline double cross(Vec2 a, Vec2 b) { return a.x * b.y - a.y * b.x; }
+inline Vec2 operator+(Vec2 a, Vec2 b) {
+  return {a.x + b.x, a.y + b.y};
+}
+inline Vec2 operator-(Vec2 a, Vec2 b) {
+  return {a.x - b.x, a.y - b.y};
+}
+inline Vec2 operator*(Vec2 a, double s) {
+  return {a.x * s, a.y * s};
+}
+inline double dot(Vec2 a, Vec2 b) {
+  return a.x * b.x + a.y * b.y;
+}
+inline double cross(Vec2 a, Vec2 b) {
+  return a.x * b.y - a.y * b.x;
+}
 // Plain square root: std::hypot's overflow care costs several times more and is not needed
 // at arena scales.
-inline double norm(Vec2 a) { return std::sqrt(a.x * a.x + a.y * a.y); }
+inline double norm(Vec2 a) {
+  return std::sqrt(a.x * a.x + a.y * a.y);
+}
 
 // A wall: a line segment of zero thickness from a to b.
 struct Segment {
@@ -72,7 +84,7 @@ inline std::optional<double> swept_disc_segment(Vec2 p, Vec2 d, double r, const 
     const Vec2 n{-e.y / len, e.x / len};
     const double signed0 = dot(p - wall.a, n);
     const double side = signed0 >= 0.0 ? 1.0 : -1.0;
-    const double h0 = side * signed0;    // distance from the wall's line
+    const double h0 = side * signed0;      // distance from the wall's line
     const double rate = side * dot(d, n);  // its change over the whole move
     if (rate < 0.0) {
       const double t = h0 > r ? (h0 - r) / -rate : 0.0;

@@ -103,7 +103,8 @@ inline Layout parse_layout(const std::string& text, const std::string& source) {
         fail(directive + " takes " + std::to_string(n) + " numbers (" + form + "), found " +
              std::to_string(v.size()));
     };
-    if (directive != "arena" && !have_arena) fail("the first directive must be 'arena WIDTH HEIGHT'");
+    if (directive != "arena" && !have_arena)
+      fail("the first directive must be 'arena WIDTH HEIGHT'");
     if (directive == "arena") {
       if (have_arena) fail("a second 'arena' directive");
       want(2, "WIDTH HEIGHT");

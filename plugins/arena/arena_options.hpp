@@ -32,7 +32,7 @@ inline constexpr const char* kBuiltInLayout =
     "goal 8 8 0.5\n";
 
 inline double number_option(const toml::table& options, std::string_view key, double fallback,
-                     double min, double max) {
+                            double min, double max) {
   const toml::node* node = options.get(key);
   if (node == nullptr) return fallback;
   const auto value = node->value<double>();
@@ -96,19 +96,19 @@ inline ArenaOptions read_options(const char* text) {
 }
 
 inline Layout read_layout(const ArenaOptions& o) {
-  Layout layout = o.layout_path.empty()
-                             ? parse_layout(kBuiltInLayout, "built-in layout")
-                             : load_layout(o.layout_path);
+  Layout layout = o.layout_path.empty() ? parse_layout(kBuiltInLayout, "built-in layout")
+                                        : load_layout(o.layout_path);
   const std::string source = o.layout_path.empty() ? "built-in layout" : o.layout_path;
   for (const auto& wall : layout.walls)
     if (point_segment_distance(layout.start, wall) < o.robot.radius)
       throw LayoutError(source + ": the robot (radius " + std::to_string(o.robot.radius) +
-                               ") overlaps a wall at its start position");
+                        ") overlaps a wall at its start position");
   // The raster must stay a sensible size.
-  const double cells = std::ceil(layout.width / o.robot.raster) * std::ceil(layout.height / o.robot.raster);
-  if (cells > 1e8) throw glue::OptionError("option 'raster' is too fine for this arena (over 10^8 cells)");
+  const double cells =
+      std::ceil(layout.width / o.robot.raster) * std::ceil(layout.height / o.robot.raster);
+  if (cells > 1e8)
+    throw glue::OptionError("option 'raster' is too fine for this arena (over 10^8 cells)");
   return layout;
 }
-
 
 }  // namespace tessera::arena

@@ -12,6 +12,7 @@
 #include <tessera/plugin.h>
 
 #include <cmath>
+#include <cstdio>
 #include <exception>
 #include <memory>
 #include <string>
@@ -37,9 +38,13 @@ struct tsr_instance {
 
 extern "C" {
 
-TSR_EXPORT uint32_t tsr_abi_version(void) { return TSR_ABI_VERSION; }
+TSR_EXPORT uint32_t tsr_abi_version(void) {
+  return TSR_ABI_VERSION;
+}
 
-TSR_EXPORT const char* tsr_problem_name(void) { return kName; }
+TSR_EXPORT const char* tsr_problem_name(void) {
+  return kName;
+}
 
 TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_t error_size) {
   try {
@@ -50,10 +55,10 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
     const arena::Layout& layout = instance->sim->layout();
     auto& m = instance->metadata;
     m.name = kName;
-    m.summary = "differential-drive robot with a neural controller in a " +
-                std::to_string(layout.width).substr(0, 5) + " x " +
-                std::to_string(layout.height).substr(0, 5) +
-                " m arena: final position, fitness = -(final distance to the goal)";
+    char size[64];
+    std::snprintf(size, sizeof size, "%g m x %g m", layout.width, layout.height);
+    m.summary = "differential-drive robot with a neural controller in a " + std::string(size) +
+                " arena: final position, fitness = -(final distance to the goal)";
     const std::size_t g = instance->sim->genome_size();
     m.genome_lower.assign(g, -o.weight_bound);
     m.genome_upper.assign(g, o.weight_bound);
@@ -68,8 +73,10 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
     m.fitness_upper = 0.0;
     m.extra_names = {"goal_reached", "goal_time", "path_length", "area_covered"};
     for (const auto& mark : layout.marks) m.extra_names.push_back(mark.name + "_time");
-    for (std::size_t i = 0; i < o.robot.trace; ++i) m.extra_names.push_back("trace_x_" + std::to_string(i));
-    for (std::size_t i = 0; i < o.robot.trace; ++i) m.extra_names.push_back("trace_y_" + std::to_string(i));
+    for (std::size_t i = 0; i < o.robot.trace; ++i)
+      m.extra_names.push_back("trace_x_" + std::to_string(i));
+    for (std::size_t i = 0; i < o.robot.trace; ++i)
+      m.extra_names.push_back("trace_y_" + std::to_string(i));
     m.finish();
     return instance.release();
   } catch (const std::exception& e) {
@@ -119,6 +126,8 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
   return TSR_ERROR;
 }
 
-TSR_EXPORT void tsr_destroy(tsr_instance* instance) { delete instance; }
+TSR_EXPORT void tsr_destroy(tsr_instance* instance) {
+  delete instance;
+}
 
 }  // extern "C"

@@ -71,8 +71,9 @@ class AreaRaster {
   std::size_t free_cells() const { return free_count_; }
   std::size_t visited_cells() const { return visited_count_; }
   double covered() const {
-    return free_count_ == 0 ? 0.0
-                            : static_cast<double>(visited_count_) / static_cast<double>(free_count_);
+    return free_count_ == 0
+               ? 0.0
+               : static_cast<double>(visited_count_) / static_cast<double>(free_count_);
   }
 
  private:

@@ -36,9 +36,7 @@ struct RobotSettings {
   std::size_t samples = 1;    // positions in the descriptor (evenly spaced in time, last = final)
   std::size_t trace = 0;      // positions reported as extras (for drawings)
 
-  std::size_t steps() const {
-    return static_cast<std::size_t>(std::llround(duration / dt));
-  }
+  std::size_t steps() const { return static_cast<std::size_t>(std::llround(duration / dt)); }
   std::size_t inputs() const { return rays + 3; }
 };
 
@@ -46,11 +44,11 @@ struct Episode {
   Pose final_pose;
   double path_length = 0.0;
   double area_covered = 0.0;
-  double goal_time = -1.0;             // s; -1 = never reached
-  std::vector<double> mark_times;      // per mark, s; -1 = never reached
-  std::vector<Vec2> samples;           // settings.samples positions
-  std::vector<Vec2> trace;             // settings.trace positions
-  std::size_t collisions = 0;          // steps cut short by a wall
+  double goal_time = -1.0;         // s; -1 = never reached
+  std::vector<double> mark_times;  // per mark, s; -1 = never reached
+  std::vector<Vec2> samples;       // settings.samples positions
+  std::vector<Vec2> trace;         // settings.trace positions
+  std::size_t collisions = 0;      // steps cut short by a wall
 };
 
 class Simulator {
@@ -63,9 +61,10 @@ class Simulator {
         inputs_(settings_.inputs(), 0.0) {
     for (std::size_t k = 0; k < settings_.rays; ++k) {
       const double fan = settings_.fan * std::numbers::pi / 180.0;
-      const double angle = settings_.rays == 1 ? 0.0
-                                               : -0.5 * fan + fan * static_cast<double>(k) /
-                                                                  static_cast<double>(settings_.rays - 1);
+      const double angle =
+          settings_.rays == 1
+              ? 0.0
+              : -0.5 * fan + fan * static_cast<double>(k) / static_cast<double>(settings_.rays - 1);
       ray_dirs_.push_back({std::cos(angle), std::sin(angle)});
     }
   }
@@ -130,8 +129,8 @@ class Simulator {
     const double c = std::cos(pose.heading), s = std::sin(pose.heading);
     for (std::size_t k = 0; k < settings_.rays; ++k) {
       const Vec2 off = ray_dirs_[k];
-      const double free = cast(pose.at, Vec2{c * off.x - s * off.y, s * off.x + c * off.y}) -
-                          settings_.radius;
+      const double free =
+          cast(pose.at, Vec2{c * off.x - s * off.y, s * off.x + c * off.y}) - settings_.radius;
       // 1 when touching a wall, 0 when nothing is within range.
       inputs_[k] = 1.0 - std::clamp(free, 0.0, settings_.range) / settings_.range;
     }

@@ -449,7 +449,9 @@ void register_adapt(CLI::App& app) {
       "map's fitness as prior mean, picks the next elite to try by mean + kappa * sigma and\n"
       "stops once the best trial reaches a fraction of the best prediction. Trials run on the\n"
       "damaged problem of a run file (simulation), on a process speaking the evaluator line\n"
-      "protocol (--trial-process, e.g. a robot's harness), or are typed in (--ask).");
+      "protocol (--trial-process, e.g. a robot's harness), or are typed in (--ask).\n"
+      "Before a genome drives real hardware: validate it in simulation first, start at low\n"
+      "power with an emergency stop within reach, and follow your lab's safety rules.");
   cmd->add_option("ARCHIVE", o->archive, "archive (.h5) of the intact robot")->required();
   cmd->add_option("--on", o->run_file,
                   "run file of the damaged problem (simulation); with --trial-process or --ask "
@@ -466,7 +468,8 @@ void register_adapt(CLI::App& app) {
   cmd->add_option("--length-scale", o->length_scale,
                   "Matérn 5/2 length scale on descriptors scaled to [0, 1] (default 0.4, "
                   "published, from memory)");
-  cmd->add_option("--noise", o->noise, "observation noise variance (default 0.001)");
+  cmd->add_option("--noise", o->noise,
+                  "observation noise variance (default 0.001, published, from memory)");
   cmd->add_option("--format", o->format, "text (default) or json")
       ->check(CLI::IsMember({"text", "json"}));
   cmd->add_option("--log", o->log, "write the trials to this HDF5 file (replaced atomically)");

@@ -30,6 +30,7 @@ int run_front(const FrontOptions& o) {
         "front: give two or more --objective NAME:min|max (NAME is fitness or a "
         "descriptor name)");
   const ArchiveSnapshot s = read_archive_file(o.archive);
+  if (s.elite_count() == 0) throw InputError(o.archive + ": the archive holds no elites");
   const auto named = parse_objectives(o.objectives, s, o.archive);
   EliteFilter filter;
   filter.within = parse_within(o.within, s, o.archive);

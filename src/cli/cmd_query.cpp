@@ -39,6 +39,7 @@ int run_query(const QueryOptions& o) {
     throw InputError("query: give exactly one of --target V1,V2,... and --targets FILE.csv");
   if (o.k == 0) throw InputError("query: --k must be at least 1");
   const ArchiveSnapshot s = read_archive_file(o.archive);
+  if (s.elite_count() == 0) throw InputError(o.archive + ": the archive holds no elites");
   const std::size_t d = s.descriptor_size();
 
   // Everything the user gave is checked before any search.

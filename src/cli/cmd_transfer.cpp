@@ -43,7 +43,9 @@ bool ends_with(const std::string& s, const std::string& tail) {
 }
 
 // Trace positions are for drawings; they make no sense as summary figures.
-bool is_trace(const std::string& name) { return name.rfind("trace_", 0) == 0; }
+bool is_trace(const std::string& name) {
+  return name.rfind("trace_", 0) == 0;
+}
 
 // `count` distinct rows of `n`, uniformly at random (partial Fisher-Yates), in ascending order.
 std::vector<std::size_t> sample_rows(std::size_t n, std::size_t count, std::uint64_t seed) {
@@ -94,7 +96,10 @@ Table elite_table(const ArchiveSnapshot& s, const std::vector<std::size_t>& rows
                   const Batch& batch, const ProblemInfo& info) {
   Table t;
   t.list_key = "elites";
-  t.columns = {{"elite", {}}, {"source_fitness", {}}, {"valid", {}}, {"fitness", {}},
+  t.columns = {{"elite", {}},
+               {"source_fitness", {}},
+               {"valid", {}},
+               {"fitness", {}},
                {"descriptor", info.descriptor_names, 4}};
   std::vector<std::size_t> shown;
   for (std::size_t e = 0; e < info.extra_names.size(); ++e) {
@@ -123,8 +128,8 @@ Table elite_table(const ArchiveSnapshot& s, const std::vector<std::size_t>& rows
 Table summary_table(const std::vector<FigureSummary>& figures) {
   Table t;
   t.list_key = "summary";
-  t.columns = {{"figure", {}}, {"evaluated", {}}, {"reached", {}}, {"q1", {}},
-               {"median", {}},  {"q3", {}}};
+  t.columns = {{"figure", {}}, {"evaluated", {}}, {"reached", {}},
+               {"q1", {}},     {"median", {}},    {"q3", {}}};
   for (const auto& f : figures) {
     std::vector<TableValue> row;
     row.reserve(6);
@@ -207,8 +212,7 @@ int run_transfer(const TransferOptions& o) {
     write_table_csv(std::cout, elites);
   } else {
     std::cout << rows.size() << " of " << s.elite_count() << " elites of " << o.archive << " ("
-              << s.problem << ") re-evaluated in '" << info.name << "' of " << o.run_file
-              << "\n\n";
+              << s.problem << ") re-evaluated in '" << info.name << "' of " << o.run_file << "\n\n";
     write_table_text(std::cout, elites);
     std::cout << "\nsummary (valid evaluations; *_time figures: over the elites that reached the "
                  "place, -1 = never)\n";

@@ -98,8 +98,9 @@ ArchiveSnapshot snapshot_of(const PreparedRun& run) {
   out.seed = run.config.search.seed;
   out.evaluations = run.search->counters().evaluations;
   out.tool_version = TESSERA_VERSION;
+  for (const auto& [key, count] : run.earlier_failures) out.resume->counters[key] = count;
   for (const auto& [reason, count] : run.problem->failure_counts())
-    out.resume->counters["failed:" + reason] = count;
+    out.resume->counters["failed:" + reason] += count;
   return out;
 }
 

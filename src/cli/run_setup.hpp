@@ -3,6 +3,8 @@
 // and `resume`, so both make exactly the same search from the same configuration.
 #pragma once
 
+#include <cstdint>
+#include <map>
 #include <memory>
 #include <string>
 
@@ -21,6 +23,8 @@ struct PreparedRun {
   std::shared_ptr<ThreadEvaluator> evaluator;
   std::unique_ptr<SearchAlgorithm> search;
   std::string space_note;  // e.g. "CVT centroids from cache"
+  // Failed evaluations by reason before this process started (resume adds to them).
+  std::map<std::string, std::uint64_t> earlier_failures;
 };
 
 // `saved` (when resuming) supplies the space stored in the archive instead of building it.

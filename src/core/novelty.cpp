@@ -118,26 +118,27 @@ NeighbourScores score_neighbours(std::span<const double> points, std::size_t dim
 
   tbb::parallel_for(tbb::blocked_range<std::size_t>(0, queries.size(), 16),
                     [&](const tbb::blocked_range<std::size_t>& range) {
-    for (std::size_t j = range.begin(); j != range.end(); ++j) {
-      const std::size_t q = queries[j];
-      const double* x = points.data() + q * dims;
-      NeighbourSet found(capacity, static_cast<std::uint32_t>(q));
-      if (tree) {
-        tree->findNeighbors(found, x, nanoflann::SearchParams());
-      } else {
-        for (std::size_t i = 0; i < n; ++i)
-          found.addPoint(squared(x, points.data() + i * dims, dims), static_cast<std::uint32_t>(i));
-      }
-      double sum = 0.0;
-      std::size_t beaten = 0;
-      for (std::size_t i = 0; i < found.size(); ++i) {
-        sum += std::sqrt(found.squared_distance(i));
-        if (fitness[found.index(i)] < fitness[q]) ++beaten;
-      }
-      out.novelty[j] = sum / static_cast<double>(found.size());
-      out.competition[j] = static_cast<double>(beaten);
-    }
-  });
+                      for (std::size_t j = range.begin(); j != range.end(); ++j) {
+                        const std::size_t q = queries[j];
+                        const double* x = points.data() + q * dims;
+                        NeighbourSet found(capacity, static_cast<std::uint32_t>(q));
+                        if (tree) {
+                          tree->findNeighbors(found, x, nanoflann::SearchParams());
+                        } else {
+                          for (std::size_t i = 0; i < n; ++i)
+                            found.addPoint(squared(x, points.data() + i * dims, dims),
+                                           static_cast<std::uint32_t>(i));
+                        }
+                        double sum = 0.0;
+                        std::size_t beaten = 0;
+                        for (std::size_t i = 0; i < found.size(); ++i) {
+                          sum += std::sqrt(found.squared_distance(i));
+                          if (fitness[found.index(i)] < fitness[q]) ++beaten;
+                        }
+                        out.novelty[j] = sum / static_cast<double>(found.size());
+                        out.competition[j] = static_cast<double>(beaten);
+                      }
+                    });
   return out;
 }
 

@@ -60,9 +60,8 @@ std::vector<std::size_t> nsga2_survivors(const Nsga2Ranking& ranking, std::size_
   const std::size_t n = ranking.rank.size();
   std::vector<std::size_t> order(n);
   std::iota(order.begin(), order.end(), 0);
-  std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
-    return crowded_better(ranking, a, b);
-  });
+  std::stable_sort(order.begin(), order.end(),
+                   [&](std::size_t a, std::size_t b) { return crowded_better(ranking, a, b); });
   order.resize(std::min(count, n));
   std::sort(order.begin(), order.end());
   return order;

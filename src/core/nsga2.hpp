@@ -10,8 +10,8 @@
 namespace tessera {
 
 struct Nsga2Ranking {
-  std::vector<std::size_t> rank;   // 0 = first front
-  std::vector<double> crowding;    // within the row's front; +inf at a front's extremes
+  std::vector<std::size_t> rank;  // 0 = first front
+  std::vector<double> crowding;   // within the row's front; +inf at a front's extremes
 };
 
 // `values` is row-major [n * objectives], every objective maximised, values finite.

@@ -51,10 +51,14 @@ std::size_t count_of(const ResumeState& state, const std::string& name, std::siz
 
 const char* to_string(PopulationAlgorithm algorithm) {
   switch (algorithm) {
-    case PopulationAlgorithm::novelty: return "novelty";
-    case PopulationAlgorithm::novelty_lc: return "novelty-lc";
-    case PopulationAlgorithm::objective: return "objective";
-    case PopulationAlgorithm::random: return "random";
+    case PopulationAlgorithm::novelty:
+      return "novelty";
+    case PopulationAlgorithm::novelty_lc:
+      return "novelty-lc";
+    case PopulationAlgorithm::objective:
+      return "objective";
+    case PopulationAlgorithm::random:
+      return "random";
   }
   return "?";
 }
@@ -114,12 +118,15 @@ PopulationSearch::PopulationSearch(PopulationAlgorithm algorithm, SearchSettings
 bool PopulationSearch::better(std::size_t a, std::size_t b) const {
   const Group& p = population_;
   switch (algorithm_) {
-    case PopulationAlgorithm::novelty: return p.novelty[a] > p.novelty[b];
-    case PopulationAlgorithm::objective: return p.fitness[a] > p.fitness[b];
+    case PopulationAlgorithm::novelty:
+      return p.novelty[a] > p.novelty[b];
+    case PopulationAlgorithm::objective:
+      return p.fitness[a] > p.fitness[b];
     case PopulationAlgorithm::novelty_lc:
       if (p.rank[a] != p.rank[b]) return p.rank[a] < p.rank[b];
       return p.crowding[a] > p.crowding[b];
-    case PopulationAlgorithm::random: return false;
+    case PopulationAlgorithm::random:
+      return false;
   }
   return false;
 }
@@ -137,28 +144,33 @@ std::size_t PopulationSearch::tournament(Rng& rng) const {
 void PopulationSearch::make_children(std::size_t count) {
   const std::size_t g = genome_bounds_.size();
   const bool random_only = algorithm_ == PopulationAlgorithm::random || population_.size() == 0;
-  tbb::parallel_for(tbb::blocked_range<std::size_t>(0, count, 64),
-                    [&](const tbb::blocked_range<std::size_t>& range) {
-    for (std::size_t j = range.begin(); j != range.end(); ++j) {
-      auto child = batch_.genome(j);
-      if (random_only || counters_.evaluations + j < settings_.effective_initial()) {
-        Rng rng(settings_.seed, next_batch_, j, static_cast<std::uint64_t>(StreamPurpose::initial));
-        random_genome(genome_bounds_, rng, child);
-        continue;
-      }
-      Rng pick(settings_.seed, next_batch_, j, static_cast<std::uint64_t>(StreamPurpose::selection));
-      const std::size_t a = tournament(pick);
-      const std::size_t b = tournament(pick);
-      Rng rng(settings_.seed, next_batch_, j, static_cast<std::uint64_t>(StreamPurpose::variation));
-      const std::span<const double> x{population_.genome.data() + a * g, g};
-      if (variation_.op == VariationOperator::gaussian) {
-        gaussian_mutation(x, genome_bounds_, variation_.sigma, rng, child);
-      } else {
-        const std::span<const double> y{population_.genome.data() + b * g, g};
-        iso_line_dd(x, y, genome_bounds_, variation_.sigma_iso, variation_.sigma_line, rng, child);
-      }
-    }
-  });
+  tbb::parallel_for(
+      tbb::blocked_range<std::size_t>(0, count, 64),
+      [&](const tbb::blocked_range<std::size_t>& range) {
+        for (std::size_t j = range.begin(); j != range.end(); ++j) {
+          auto child = batch_.genome(j);
+          if (random_only || counters_.evaluations + j < settings_.effective_initial()) {
+            Rng rng(settings_.seed, next_batch_, j,
+                    static_cast<std::uint64_t>(StreamPurpose::initial));
+            random_genome(genome_bounds_, rng, child);
+            continue;
+          }
+          Rng pick(settings_.seed, next_batch_, j,
+                   static_cast<std::uint64_t>(StreamPurpose::selection));
+          const std::size_t a = tournament(pick);
+          const std::size_t b = tournament(pick);
+          Rng rng(settings_.seed, next_batch_, j,
+                  static_cast<std::uint64_t>(StreamPurpose::variation));
+          const std::span<const double> x{population_.genome.data() + a * g, g};
+          if (variation_.op == VariationOperator::gaussian) {
+            gaussian_mutation(x, genome_bounds_, variation_.sigma, rng, child);
+          } else {
+            const std::span<const double> y{population_.genome.data() + b * g, g};
+            iso_line_dd(x, y, genome_bounds_, variation_.sigma_iso, variation_.sigma_line, rng,
+                        child);
+          }
+        }
+      });
 }
 
 // Novelty and local competition of every valid member of the pool, against the novelty archive
@@ -251,8 +263,11 @@ void PopulationSearch::step() {
         ++counters_.improvements;
         qd_score_ += batch_.fitness[j] - r.replaced_fitness;
         break;
-      case Insertion::rejected: break;
-      case Insertion::invalid: ++counters_.invalid; break;
+      case Insertion::rejected:
+        break;
+      case Insertion::invalid:
+        ++counters_.invalid;
+        break;
     }
     if (r.outcome == Insertion::invalid) continue;
     if (r.clamped) ++counters_.out_of_bounds;
@@ -367,8 +382,7 @@ void PopulationSearch::restore(const ArchiveSnapshot& in) {
   if (!in.resume) throw std::invalid_argument("the archive holds no resume state");
   const ResumeState& state = *in.resume;
   if (state.algorithm != name())
-    throw std::invalid_argument("the archive was made by '" + state.algorithm + "', not " +
-                                name());
+    throw std::invalid_argument("the archive was made by '" + state.algorithm + "', not " + name());
   if (in.space_kind != "unstructured")
     throw std::invalid_argument("a " + name() + " archive must have an unstructured space");
   const std::size_t g = genome_bounds_.size();
@@ -403,9 +417,8 @@ void PopulationSearch::restore(const ArchiveSnapshot& in) {
   const auto& genome = array(state, "reference_genome", m * g);
   const auto& descriptor = array(state, "reference_descriptor", m * d);
   for (std::size_t i = 0; i < m; ++i)
-    reference_.restore(static_cast<std::int64_t>(cells[i]), {genome.data() + i * g, g},
-                       fitness[i], {descriptor.data() + i * d, d},
-                       static_cast<std::uint64_t>(birth[i]));
+    reference_.restore(static_cast<std::int64_t>(cells[i]), {genome.data() + i * g, g}, fitness[i],
+                       {descriptor.data() + i * d, d}, static_cast<std::uint64_t>(birth[i]));
 
   history_ = in.history;
   counters_ = load_counters(state, in.evaluations);

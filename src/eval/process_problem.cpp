@@ -298,7 +298,15 @@ class WorkerPool {
         }
       }
     }
-    if (drain && worker.out >= 0) read_lines(worker);
+    if (drain && worker.out >= 0) {
+      read_lines(worker);
+      // A last answer without its newline still counts: the worker is gone, the line complete.
+      if (!worker.read_buffer.empty()) {
+        const std::string last = std::move(worker.read_buffer);
+        worker.read_buffer.clear();
+        on_line(worker, last);
+      }
+    }
     if (worker.in >= 0) ::close(worker.in);
     if (worker.out >= 0) ::close(worker.out);
     worker.pid = -1;

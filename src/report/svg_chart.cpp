@@ -180,6 +180,9 @@ std::string front_chart_svg(const std::string& title, const std::string& x_label
   f.y1 = *std::max_element(all_y.begin(), all_y.end());
   pad_range(f.x0, f.x1);
   pad_range(f.y0, f.y1);
+  // A margin, so that the front (which lies on the edge of the cloud) is not drawn on the frame.
+  const double mx = 0.03 * (f.x1 - f.x0), my = 0.03 * (f.y1 - f.y0);
+  f.x0 -= mx, f.x1 += mx, f.y0 -= my, f.y1 += my;
   std::string body = f.axes(x_label, y_label);
   // Candidates: one 2x2 square per occupied pixel keeps the file small for large archives.
   std::set<std::pair<long, long>> pixels;

@@ -52,7 +52,9 @@ def assert_same_run(a, b, skip_attrs=("@tool_version",)):
         if isinstance(va, np.ndarray):
             assert va.shape == vb.shape, f"{key}: shapes {va.shape} vs {vb.shape}"
             assert va.dtype == vb.dtype, f"{key}: dtypes differ"
-            # Bit-identical: compare the raw bytes, not approximately.
-            assert va.tobytes() == vb.tobytes(), f"{key}: values differ"
+            if va.dtype == object:  # variable-length strings: compare the values
+                assert va.tolist() == vb.tolist(), f"{key}: values differ"
+            else:  # bit-identical: compare the raw bytes, not approximately
+                assert va.tobytes() == vb.tobytes(), f"{key}: values differ"
         else:
             assert va == vb, f"{key}: {va!r} vs {vb!r}"

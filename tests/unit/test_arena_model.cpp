@@ -164,7 +164,8 @@ TEST_CASE("area covered by a straight path equals the hand-counted raster cells"
   for (int k = 0; k < 20; ++k) raster.sweep({1 + 0.1 * k, 1}, {1 + 0.1 * (k + 1), 1}, 0.23);
   CHECK(raster.visited_cells() == 96);
   // A wall 0.02 m from a column of centres (x = 2.05) takes those 20 cells out of the free ones.
-  const Layout walled = parse_layout("arena 4 2\nstart 1 1 0\ngoal 3.5 1 0.1\nwall 2.03 0 2.03 2\n", "t");
+  const Layout walled =
+      parse_layout("arena 4 2\nstart 1 1 0\ngoal 3.5 1 0.1\nwall 2.03 0 2.03 2\n", "t");
   AreaRaster blocked(walled.width, walled.height, 0.1, walled.walls);
   CHECK(blocked.free_cells() == 780);
 }

@@ -34,7 +34,8 @@ NeighbourScores brute_force(const std::vector<double>& points, std::size_t dims,
       if (i == q) continue;
       double s = 0;
       for (std::size_t j = 0; j < dims; ++j)
-        s += (points[q * dims + j] - points[i * dims + j]) * (points[q * dims + j] - points[i * dims + j]);
+        s += (points[q * dims + j] - points[i * dims + j]) *
+             (points[q * dims + j] - points[i * dims + j]);
       others.push_back({std::sqrt(s), i});
     }
     std::sort(others.begin(), others.end());
@@ -97,8 +98,8 @@ TEST_CASE("novelty by hand: k = 2 on a line") {
   // Fewer points than k: the mean over all others; a single point has novelty 0.
   const auto few = score_neighbours(points, 1, fitness, all(4), 15);
   CHECK(few.novelty[0] == Approx(10.0 / 3.0));
-  const auto alone = score_neighbours(std::vector<double>{5.0}, 1, std::vector<double>{0.0},
-                                      all(1), 15);
+  const auto alone =
+      score_neighbours(std::vector<double>{5.0}, 1, std::vector<double>{0.0}, all(1), 15);
   CHECK(alone.novelty[0] == 0.0);
 }
 
@@ -123,7 +124,8 @@ TEST_CASE("novelty equals the brute-force k-nearest-neighbour mean (tree and sca
 
 TEST_CASE("novelty equals scipy cKDTree's k-nearest-neighbour mean") {
   namespace fs = std::filesystem;
-  const fs::path dir = fs::temp_directory_path() / ("tessera-novelty-" + std::to_string(::getpid()));
+  const fs::path dir =
+      fs::temp_directory_path() / ("tessera-novelty-" + std::to_string(::getpid()));
   fs::create_directories(dir);
   for (std::size_t dims : {2u, 4u}) {
     const std::size_t n = 1500;
@@ -143,7 +145,8 @@ TEST_CASE("novelty equals scipy cKDTree's k-nearest-neighbour mean") {
     const auto reference = run_reference("knn_novelty.py", input, "15");
     REQUIRE(reference.size() == n);
     const auto got = score_neighbours(points, dims, std::vector<double>(n, 0.0), all(n), 15);
-    for (std::size_t i = 0; i < n; ++i) REQUIRE(got.novelty[i] == Approx(reference[i]).epsilon(1e-12));
+    for (std::size_t i = 0; i < n; ++i)
+      REQUIRE(got.novelty[i] == Approx(reference[i]).epsilon(1e-12));
   }
   fs::remove_all(dir);
 }

@@ -392,6 +392,24 @@ TEST_CASE("a worker that closes its stdin costs no evaluation and does not stop 
   fs::remove(log);
 }
 
+TEST_CASE("a last answer without its newline before the worker exits still counts") {
+  // Each life of this worker answers its first request without a newline and exits.
+  const std::string script =
+      "import json, os, sys\n"
+      "sys.path.insert(0, " +
+      std::string("'") + fixture("") +
+      "')\n"
+      "import fixture_protocol as fp\n"
+      "r = json.loads(sys.stdin.readline())\n"
+      "sys.stdout.write(fp.answer_line(r['id'], r['genome'], 2))\n";
+  auto problem = open_process_problem(make_spec({kPython, "-c", script}, 2, 20.0, 3, 2));
+  Batch batch = uniform_batch(12, 3, 2, -3.0, 3.0, 9);
+  ThreadEvaluator evaluator(problem, 2);
+  evaluator.evaluate(batch);
+  for (std::size_t i = 0; i < batch.count; ++i) require_fixture_answer(batch, i);
+  REQUIRE(counts_of(*problem).empty());
+}
+
 TEST_CASE("destroying the problem ends and reaps every worker") {
   int status = 0;
   {
