@@ -21,14 +21,16 @@
 #include "core/snapshot.hpp"
 #include "io/archive_file.hpp"
 
+#include "bench_timing.hpp"
+
+using tessera::bench::median;
+using tessera::bench::seconds_since;
+
 namespace fs = std::filesystem;
 using tessera::ArchiveSnapshot;
 
 namespace {
 
-double seconds_since(std::chrono::steady_clock::time_point start) {
-  return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-}
 
 // Processor time of this process (all threads): on a shared machine wall time also counts the
 // time other programs held the processors.
@@ -39,10 +41,6 @@ double cpu_seconds() {
          1e-6 * static_cast<double>(u.ru_utime.tv_usec + u.ru_stime.tv_usec);
 }
 
-double median(std::vector<double> v) {
-  std::sort(v.begin(), v.end());
-  return v[v.size() / 2];
-}
 
 ArchiveSnapshot make_snapshot(std::size_t n, std::size_t g) {
   const std::int64_t side = 1000;

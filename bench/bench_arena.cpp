@@ -23,18 +23,16 @@
 #include "eval/thread_evaluator.hpp"
 #include "problems/registry.hpp"
 
+#include "bench_timing.hpp"
+
+using tessera::bench::median;
+using tessera::bench::seconds_since;
+
 namespace {
 
 using Clock = std::chrono::steady_clock;
 
-double seconds_since(Clock::time_point t0) {
-  return std::chrono::duration<double>(Clock::now() - t0).count();
-}
 
-double median(std::vector<double> v) {
-  std::sort(v.begin(), v.end());
-  return v[v.size() / 2];
-}
 
 // The shipped arenas, found from this source file's place in the tree.
 std::string layout(const char* name) {

@@ -20,19 +20,17 @@
 #include "eval/thread_evaluator.hpp"
 #include "problems/registry.hpp"
 
+#include "bench_timing.hpp"
+
+using tessera::bench::median;
+using tessera::bench::seconds_since;
+
 using namespace tessera;
 using clock_type = std::chrono::steady_clock;
 
 namespace {
 
-double seconds_since(clock_type::time_point start) {
-  return std::chrono::duration<double>(clock_type::now() - start).count();
-}
 
-double median(std::vector<double> v) {
-  std::sort(v.begin(), v.end());
-  return v[v.size() / 2];
-}
 
 constexpr std::size_t kJoints = 10;
 constexpr std::size_t kBatch = 1024;

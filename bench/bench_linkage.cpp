@@ -27,6 +27,11 @@
 #include "io/run_file.hpp"
 #include "linkage/linkage_model.hpp"
 
+#include "bench_timing.hpp"
+
+using tessera::bench::median;
+using tessera::bench::seconds_since;
+
 using namespace tessera;
 using Clock = std::chrono::steady_clock;
 
@@ -36,14 +41,7 @@ constexpr std::size_t kReasons = 6;  // linkage::Reason codes 0..5
 const char* kReasonNames[kReasons] = {"feasible",  "not Grashof",       "crank not shortest",
                                       "loop open", "transmission rule", "bad length"};
 
-double seconds_since(Clock::time_point t0) {
-  return std::chrono::duration<double>(Clock::now() - t0).count();
-}
 
-double median(std::vector<double> v) {
-  std::sort(v.begin(), v.end());
-  return v[v.size() / 2];
-}
 
 // Evaluates `genomes` on one instance (one core) in batches of 1024; returns evaluations per
 // second and leaves the results in `batch_out` (the last pass).

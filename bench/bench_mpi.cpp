@@ -22,18 +22,16 @@
 #include "eval/thread_evaluator.hpp"
 #include "problems/registry.hpp"
 
+#include "bench_timing.hpp"
+
+using tessera::bench::median;
+using tessera::bench::seconds_since;
+
 using namespace tessera;
 using clock_type = std::chrono::steady_clock;
 
 namespace {
 
-double since(clock_type::time_point t) {
-  return std::chrono::duration<double>(clock_type::now() - t).count();
-}
-double median(std::vector<double> v) {
-  std::sort(v.begin(), v.end());
-  return v[v.size() / 2];
-}
 
 // The bench's own "run file": NAME, a newline, then the plugin options.
 std::shared_ptr<const Problem> open_named(const cluster::WorkerSetup& s) {
@@ -59,7 +57,7 @@ double seconds_per_evaluation(const EvaluateFn& evaluate, const ProblemInfo& inf
   for (int b = 0; b < batches; ++b) work.push_back(random_batch(info, size, static_cast<std::uint64_t>(b)));
   const auto start = clock_type::now();
   for (auto& batch : work) evaluate(batch);
-  return since(start) / static_cast<double>(size * static_cast<std::size_t>(batches));
+  return seconds_since(start) / static_cast<double>(size * static_cast<std::size_t>(batches));
 }
 
 }  // namespace

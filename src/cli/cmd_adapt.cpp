@@ -85,6 +85,8 @@ class TrialSource {
   };
   virtual std::optional<Measurement> measure(std::size_t trial, std::int64_t cell,
                                              const std::vector<double>& genome) = 0;
+  // Why measure() returned nothing.
+  virtual std::string end_reason() const = 0;
 };
 
 // A problem (the damaged robot in simulation, or an external process) evaluating one genome.
@@ -112,11 +114,17 @@ class ProblemSource final : public TrialSource {
       m.valid = false;
       m.fault = e.what();
     }
-    // A failed trial counts as the lowest possible performance: on a robot it achieved nothing.
+    // A trial process that fails (crash, timeout, garbage) gives no measurement: the trials end
+    // there rather than send more genomes to a harness in trouble.
+    if (!m.valid && hardware_) return std::nullopt;
+    // A failed simulation (unstable) counts as the lowest possible performance.
     m.performance = m.valid ? batch.fitness[0] : lowest_;
     m.descriptor.assign(batch.descriptors.begin(), batch.descriptors.end());
     if (!m.valid) m.descriptor.assign(info.descriptor_size(), std::nan(""));
     return m;
+  }
+  std::string end_reason() const override {
+    return "the trial process gave no measurement (its messages are above)";
   }
 
  private:
@@ -132,6 +140,7 @@ class OperatorSource final : public TrialSource {
  public:
   explicit OperatorSource(std::size_t descriptor_size) : descriptor_size_(descriptor_size) {}
   std::string name() const override { return "operator"; }
+  std::string end_reason() const override { return "the operator ended the trials"; }
   bool drives_hardware() const override { return true; }
   std::optional<Measurement> measure(std::size_t trial, std::int64_t cell,
                                      const std::vector<double>& genome) override {
@@ -341,7 +350,7 @@ int run_adapt(const AdaptOptions& o) {
                                      map.genome.begin() + static_cast<long>((elite + 1) * g));
     const auto measurement = source->measure(loop.trials().size() + 1, map.cell[elite], genome);
     if (!measurement) {
-      loop.abort("the operator ended the trials");
+      loop.abort(source->end_reason());
       break;
     }
     loop.record(elite, measurement->performance, measurement->valid);

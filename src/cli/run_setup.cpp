@@ -42,6 +42,9 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
   run.problem = open_problem(config.problem);  // its errors name the run file already
   const ProblemInfo& info = run.problem->info();
   std::shared_ptr<const DescriptorSpace> space;
+  if (saved && saved->resume)
+    for (const auto& [key, count] : saved->resume->counters)
+      if (key.rfind("failed:", 0) == 0) run.earlier_failures[key] = count;
   // Population searches save an unstructured archive; their reference space (the [space] of
   // the stored run file) is rebuilt, deterministically, from the configuration.
   if (saved && saved->space_kind != "unstructured") {

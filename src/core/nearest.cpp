@@ -8,22 +8,10 @@
 #include <string>
 #include <utility>
 
+#include "core/point_cloud.hpp"
+
 namespace tessera {
 namespace {
-
-// nanoflann's view of the centroid array.
-struct CentroidCloud {
-  const double* data = nullptr;
-  std::size_t count = 0;
-  std::size_t dims = 0;
-
-  std::size_t kdtree_get_point_count() const { return count; }
-  double kdtree_get_pt(std::uint32_t idx, std::size_t dim) const { return data[idx * dims + dim]; }
-  template <class Box>
-  bool kdtree_get_bbox(Box&) const {
-    return false;
-  }
-};
 
 // One-nearest result set ordered by (distance, index). It reports a worst distance a hair above
 // the best so that the tree still visits points at exactly the best distance; addPoint then keeps
@@ -109,14 +97,13 @@ namespace {
 // Points per k-d tree leaf: 16 beat 4, 8 and 32 on uniform centroids in 2 to 6 dimensions.
 constexpr std::size_t kLeafSize = 16;
 
-// A fixed dimension lets nanoflann keep its per-query buffers on the stack.
 template <int Dim>
 class TreeOf final : public NearestCentroid::Tree {
  public:
-  using Metric = nanoflann::L2_Simple_Adaptor<double, CentroidCloud, double, std::uint32_t>;
-  using Index = nanoflann::KDTreeSingleIndexAdaptor<Metric, CentroidCloud, Dim, std::uint32_t>;
+  using Metric = nanoflann::L2_Simple_Adaptor<double, PointCloud, double, std::uint32_t>;
+  using Index = nanoflann::KDTreeSingleIndexAdaptor<Metric, PointCloud, Dim, std::uint32_t>;
 
-  TreeOf(CentroidCloud cloud)
+  TreeOf(PointCloud cloud)
       : cloud_(cloud),
         index_(static_cast<int>(cloud.dims), cloud_,
                nanoflann::KDTreeSingleIndexAdaptorParams(kLeafSize)) {}
@@ -133,32 +120,9 @@ class TreeOf final : public NearestCentroid::Tree {
   }
 
  private:
-  CentroidCloud cloud_;
+  PointCloud cloud_;
   Index index_;
 };
-
-std::unique_ptr<NearestCentroid::Tree> make_tree(CentroidCloud cloud) {
-  switch (cloud.dims) {
-    case 1:
-      return std::make_unique<TreeOf<1>>(cloud);
-    case 2:
-      return std::make_unique<TreeOf<2>>(cloud);
-    case 3:
-      return std::make_unique<TreeOf<3>>(cloud);
-    case 4:
-      return std::make_unique<TreeOf<4>>(cloud);
-    case 5:
-      return std::make_unique<TreeOf<5>>(cloud);
-    case 6:
-      return std::make_unique<TreeOf<6>>(cloud);
-    case 7:
-      return std::make_unique<TreeOf<7>>(cloud);
-    case 8:
-      return std::make_unique<TreeOf<8>>(cloud);
-    default:
-      return std::make_unique<TreeOf<-1>>(cloud);
-  }
-}
 
 }  // namespace
 
@@ -173,7 +137,7 @@ NearestCentroid::NearestCentroid(std::span<const double> centroids, std::size_t 
     throw std::invalid_argument("nearest centroid: too many centroids");
   const bool tree =
       method == Method::tree || (method == Method::automatic && count_ > scan_limit(dims_));
-  if (tree) tree_ = make_tree({centroids_.data(), count_, dims_});
+  if (tree) tree_ = make_tree_for_dimension<TreeOf, Tree>({centroids_.data(), count_, dims_});
 }
 
 NearestCentroid::~NearestCentroid() = default;

@@ -11,21 +11,10 @@
 #include <stdexcept>
 #include <string>
 
+#include "core/point_cloud.hpp"
+
 namespace tessera {
 namespace {
-
-struct PointCloud {
-  const double* data = nullptr;
-  std::size_t count = 0;
-  std::size_t dims = 0;
-
-  std::size_t kdtree_get_point_count() const { return count; }
-  double kdtree_get_pt(std::uint32_t idx, std::size_t dim) const { return data[idx * dims + dim]; }
-  template <class Box>
-  bool kdtree_get_bbox(Box&) const {
-    return false;
-  }
-};
 
 // The k nearest points other than `self`, ordered by (distance, index). Ordering ties by index
 // makes the chosen neighbours canonical, so the local competition score is the same whether a

@@ -8,6 +8,8 @@
 #include <string>
 #include <utility>
 
+#include "core/point_cloud.hpp"
+
 namespace tessera {
 
 bool EliteFilter::accepts(const ArchiveSnapshot& s, std::size_t elite) const {
@@ -29,20 +31,6 @@ std::vector<std::size_t> filter_elites(const ArchiveSnapshot& s, const EliteFilt
 }
 
 namespace {
-
-// nanoflann's view of the scaled points.
-struct PointCloud {
-  const double* data = nullptr;
-  std::size_t count = 0;
-  std::size_t dims = 0;
-
-  std::size_t kdtree_get_point_count() const { return count; }
-  double kdtree_get_pt(std::uint32_t idx, std::size_t dim) const { return data[idx * dims + dim]; }
-  template <class Box>
-  bool kdtree_get_bbox(Box&) const {
-    return false;
-  }
-};
 
 // The k best (squared distance, point) pairs ordered lexicographically. Once full it reports a
 // worst distance a hair above the k-th so that the tree still visits points at exactly that
@@ -97,7 +85,6 @@ struct NearestElites::Tree {
 
 namespace {
 
-// A fixed dimension lets nanoflann keep its per-query buffers on the stack.
 template <int Dim>
 class TreeOf final : public NearestElites::Tree {
  public:
@@ -119,29 +106,6 @@ class TreeOf final : public NearestElites::Tree {
   Index index_;
 };
 
-std::unique_ptr<NearestElites::Tree> make_tree(PointCloud cloud) {
-  switch (cloud.dims) {
-    case 1:
-      return std::make_unique<TreeOf<1>>(cloud);
-    case 2:
-      return std::make_unique<TreeOf<2>>(cloud);
-    case 3:
-      return std::make_unique<TreeOf<3>>(cloud);
-    case 4:
-      return std::make_unique<TreeOf<4>>(cloud);
-    case 5:
-      return std::make_unique<TreeOf<5>>(cloud);
-    case 6:
-      return std::make_unique<TreeOf<6>>(cloud);
-    case 7:
-      return std::make_unique<TreeOf<7>>(cloud);
-    case 8:
-      return std::make_unique<TreeOf<8>>(cloud);
-    default:
-      return std::make_unique<TreeOf<-1>>(cloud);
-  }
-}
-
 }  // namespace
 
 NearestElites::NearestElites(std::span<const double> descriptors, const Bounds& bounds,
@@ -162,7 +126,7 @@ NearestElites::NearestElites(std::span<const double> descriptors, const Bounds& 
     for (std::size_t i = 0; i < dims_; ++i)
       points_[r * dims_ + i] = (descriptors[rows_[r] * dims_ + i] - lower_[i]) / width_[i];
   }
-  if (!rows_.empty()) tree_ = make_tree({points_.data(), rows_.size(), dims_});
+  if (!rows_.empty()) tree_ = make_tree_for_dimension<TreeOf, Tree>({points_.data(), rows_.size(), dims_});
 }
 
 NearestElites::NearestElites(const ArchiveSnapshot& snapshot, const EliteFilter& filter)

@@ -91,6 +91,9 @@ assert [t["cell"] for t in remote["trials"]] == [t["cell"] for t in trials]
 for r, t in zip(remote["trials"], trials):
     assert abs(r["measured"] - t["measured"]) < 1e-12
 assert "emergency stop" in proc.stderr, "a run that can drive hardware must say the caution"
+# A harness that fails ends the trials at once (no more genomes sent to it): exit 1.
+proc = run("adapt", archive, "--trial-process", "false", check=False)
+assert proc.returncode == 1 and "gave no measurement" in proc.stdout, proc.stdout + proc.stderr
 
 # --- trials typed by the operator -------------------------------------------------------------
 proc = run("adapt", archive, "--on", damage_file, "--ask", "--format", "json", "--length-scale",
@@ -112,8 +115,8 @@ def refused(*args, expect):
 
 missing = os.path.join(work, "missing.h5")
 refused("adapt", missing, "--on", damage_file, expect=missing)
-refused("adapt", archive, "--on", problem("gait-damage-leg-removed.toml"),
-        expect="gait-damage-leg-removed.toml: problem 'gait' differs from the archive's")
+refused("adapt", archive, "--on", problem("gait-damage-stuck-joint.toml"),
+        expect="gait-damage-stuck-joint.toml: problem 'gait' differs from the archive's")
 refused("adapt", archive, "--on", damage_file, "--kappa", -1, expect="kappa")
 refused("adapt", archive, "--on", damage_file, "--stop-fraction", 1.5, expect="stop fraction")
 refused("adapt", archive, "--ask", "--trial-process", "cat", expect="choose one")

@@ -1,6 +1,7 @@
 # ctest-labels: issue5
 """Arena runs through the command line: run-file-relative layout paths, --set search.algorithm
-for every population search, resume and thread counts bit-identical for novelty search, and
+for every population search, resume and thread counts bit-identical for novelty search, the
+report's arena drawing, and
 `tessera transfer` of an archive into the larger maze: per-elite rows match a second evaluation,
 the summary's quartiles equal numpy.percentile (linear interpolation, numpy's default) of the
 per-elite values, and the *_time figures count the elites that reached each place."""
@@ -42,6 +43,18 @@ run("illuminate", runfile, "--out", split, "-n", 1000, "--threads", 2, *small)
 run("resume", os.path.join(split, "archive.h5"), "-n", 2000, "--threads", 2, "--quiet")
 assert_same_run(read_archive(os.path.join(whole, "archive.h5")),
                 read_archive(os.path.join(split, "archive.h5")))
+
+# The report draws the arena: its 4 border walls, every elite's final position, 5 best paths.
+report = os.path.join(work, "report")
+run("report", os.path.join(whole, "archive.h5"), "--out", report)
+panels = [f for f in os.listdir(report) if "arena" in f and f.endswith(".svg")]
+assert len(panels) == 1, os.listdir(report)
+svg = open(os.path.join(report, panels[0])).read()
+assert svg.count("<line ") == 4, svg.count("<line ")
+assert svg.count("<polyline ") == 5
+elite_count = len(read_archive(os.path.join(whole, "archive.h5"))["elites/fitness"])
+assert svg.count('r="2" fill="#555"') == elite_count
+assert "arena" in open(os.path.join(report, "index.html")).read().lower()
 
 # Transfer into the maze.
 archive = os.path.join(whole, "archive.h5")
