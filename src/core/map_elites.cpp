@@ -28,8 +28,8 @@ MapElitesSearch::MapElitesSearch(SearchSettings settings,
 void MapElitesSearch::step() {
   if (finished()) return;
   const std::uint64_t remaining = settings_.evaluations - counters_.evaluations;
-  const std::size_t count = static_cast<std::size_t>(
-      std::min<std::uint64_t>(settings_.batch, remaining));
+  const std::size_t count =
+      static_cast<std::size_t>(std::min<std::uint64_t>(settings_.batch, remaining));
   batch_.resize(count, archive_.genome_size(), archive_.descriptor_size(), extra_size_);
 
   EmitContext context;
@@ -44,40 +44,15 @@ void MapElitesSearch::step() {
 
   // Insertion is serial and in candidate order: the archive's evolution is fixed by the seed.
   results_.resize(count);
-  for (std::size_t j = 0; j < count; ++j) {
-    const std::uint64_t birth = counters_.evaluations + j + 1;
-    const InsertResult r = archive_.insert(batch_.genome(j), batch_.fitness[j],
-                                           batch_.descriptor(j), birth, batch_.valid[j] != 0);
-    results_[j] = r;
-    switch (r.outcome) {
-      case Insertion::new_cell:
-        ++counters_.new_cells;
-        qd_score_ += batch_.fitness[j] - qd_offset_;
-        break;
-      case Insertion::improved:
-        ++counters_.improvements;
-        qd_score_ += batch_.fitness[j] - r.replaced_fitness;
-        break;
-      case Insertion::rejected: break;
-      case Insertion::invalid: ++counters_.invalid; break;
-    }
-    if (r.outcome != Insertion::invalid) {
-      if (r.clamped) ++counters_.out_of_bounds;
-      max_fitness_ = std::max(max_fitness_, batch_.fitness[j]);
-    }
-  }
+  for (std::size_t j = 0; j < count; ++j)
+    results_[j] = offer_candidate(archive_, batch_, j, counters_.evaluations + j + 1, qd_offset_,
+                                  counters_, qd_score_, max_fitness_);
   emitter_->tell(batch_, results_);
 
   counters_.evaluations += count;
   ++next_batch_;
-  HistoryRow row;
-  row.evaluations = counters_.evaluations;
-  row.coverage = archive_.coverage();
-  row.qd_score = qd_score_;
-  // Max over all valid candidates equals max over the elites (elites only give way to better
-  // ones). Before the first elite the row holds the lowest possible fitness, keeping it finite.
-  row.max_fitness = archive_.empty() ? qd_offset_ : max_fitness_;
-  history_.push_back(row);
+  history_.push_back(
+      history_row(archive_, counters_.evaluations, qd_score_, max_fitness_, qd_offset_));
 }
 
 SearchFigures MapElitesSearch::figures() const {
@@ -97,7 +72,8 @@ void save_space(const DescriptorSpace& space, ArchiveSnapshot& out) {
   out.descriptor_names = space.names();
   out.resolution.clear();
   out.centroids.clear();
-  if (const auto* grid = dynamic_cast<const GridSpace*>(&space)) out.resolution = grid->resolution();
+  if (const auto* grid = dynamic_cast<const GridSpace*>(&space))
+    out.resolution = grid->resolution();
   if (const auto* cvt = dynamic_cast<const CvtSpace*>(&space)) out.centroids = cvt->centroids();
 }
 
@@ -143,8 +119,10 @@ void MapElitesSearch::save(ArchiveSnapshot& out) const {
 void MapElitesSearch::restore(const ArchiveSnapshot& in) {
   if (!in.resume) throw std::invalid_argument("the archive holds no resume state");
   if (in.resume->algorithm != name())
-    throw std::invalid_argument("the archive was made by '" + in.resume->algorithm + "', not " + name());
-  if (in.genome_size() != archive_.genome_size() || in.descriptor_size() != archive_.descriptor_size())
+    throw std::invalid_argument("the archive was made by '" + in.resume->algorithm + "', not " +
+                                name());
+  if (in.genome_size() != archive_.genome_size() ||
+      in.descriptor_size() != archive_.descriptor_size())
     throw std::invalid_argument("genome or descriptor size differs from the problem's");
   if (!archive_.empty() || counters_.evaluations != 0)
     throw std::invalid_argument("restore into a search that has already run");

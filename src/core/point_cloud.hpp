@@ -26,15 +26,24 @@ struct PointCloud {
 template <template <int> class TreeOf, class Base>
 std::unique_ptr<Base> make_tree_for_dimension(PointCloud cloud) {
   switch (cloud.dims) {
-    case 1: return std::make_unique<TreeOf<1>>(cloud);
-    case 2: return std::make_unique<TreeOf<2>>(cloud);
-    case 3: return std::make_unique<TreeOf<3>>(cloud);
-    case 4: return std::make_unique<TreeOf<4>>(cloud);
-    case 5: return std::make_unique<TreeOf<5>>(cloud);
-    case 6: return std::make_unique<TreeOf<6>>(cloud);
-    case 7: return std::make_unique<TreeOf<7>>(cloud);
-    case 8: return std::make_unique<TreeOf<8>>(cloud);
-    default: return std::make_unique<TreeOf<-1>>(cloud);
+    case 1:
+      return std::make_unique<TreeOf<1>>(cloud);
+    case 2:
+      return std::make_unique<TreeOf<2>>(cloud);
+    case 3:
+      return std::make_unique<TreeOf<3>>(cloud);
+    case 4:
+      return std::make_unique<TreeOf<4>>(cloud);
+    case 5:
+      return std::make_unique<TreeOf<5>>(cloud);
+    case 6:
+      return std::make_unique<TreeOf<6>>(cloud);
+    case 7:
+      return std::make_unique<TreeOf<7>>(cloud);
+    case 8:
+      return std::make_unique<TreeOf<8>>(cloud);
+    default:
+      return std::make_unique<TreeOf<-1>>(cloud);
   }
 }
 

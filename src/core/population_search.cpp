@@ -252,26 +252,9 @@ void PopulationSearch::step() {
   last_competition_.assign(pool.competition.begin() + first_child, pool.competition.end());
   for (std::size_t j = 0; j < count; ++j) {
     const std::uint64_t birth = counters_.evaluations + j + 1;
-    const InsertResult r = reference_.insert(batch_.genome(j), batch_.fitness[j],
-                                             batch_.descriptor(j), birth, batch_.valid[j] != 0);
-    switch (r.outcome) {
-      case Insertion::new_cell:
-        ++counters_.new_cells;
-        qd_score_ += batch_.fitness[j] - qd_offset_;
-        break;
-      case Insertion::improved:
-        ++counters_.improvements;
-        qd_score_ += batch_.fitness[j] - r.replaced_fitness;
-        break;
-      case Insertion::rejected:
-        break;
-      case Insertion::invalid:
-        ++counters_.invalid;
-        break;
-    }
+    const InsertResult r = offer_candidate(reference_, batch_, j, birth, qd_offset_, counters_,
+                                           qd_score_, max_fitness_);
     if (r.outcome == Insertion::invalid) continue;
-    if (r.clamped) ++counters_.out_of_bounds;
-    max_fitness_ = std::max(max_fitness_, batch_.fitness[j]);
     if (pool.valid[first_child + j] != 0.0 && last_novelty_[j] > archive_.threshold()) {
       archive_.add(batch_.genome(j), batch_.descriptor(j), batch_.fitness[j], birth);
       ++entries;
@@ -295,12 +278,8 @@ void PopulationSearch::step() {
 
   counters_.evaluations += count;
   ++next_batch_;
-  HistoryRow row;
-  row.evaluations = counters_.evaluations;
-  row.coverage = reference_.coverage();
-  row.qd_score = qd_score_;
-  row.max_fitness = reference_.empty() ? qd_offset_ : max_fitness_;
-  history_.push_back(row);
+  history_.push_back(
+      history_row(reference_, counters_.evaluations, qd_score_, max_fitness_, qd_offset_));
 }
 
 SearchFigures PopulationSearch::figures() const {

@@ -1,6 +1,45 @@
 #include "core/search.hpp"
 
+#include <algorithm>
+
 namespace tessera {
+
+InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::size_t j,
+                             std::uint64_t birth, double qd_offset, SearchCounters& counters,
+                             double& qd_score, double& max_fitness) {
+  const InsertResult r = archive.insert(batch.genome(j), batch.fitness[j], batch.descriptor(j),
+                                        birth, batch.valid[j] != 0);
+  switch (r.outcome) {
+    case Insertion::new_cell:
+      ++counters.new_cells;
+      qd_score += batch.fitness[j] - qd_offset;
+      break;
+    case Insertion::improved:
+      ++counters.improvements;
+      qd_score += batch.fitness[j] - r.replaced_fitness;
+      break;
+    case Insertion::rejected:
+      break;
+    case Insertion::invalid:
+      ++counters.invalid;
+      break;
+  }
+  if (r.outcome != Insertion::invalid) {
+    if (r.clamped) ++counters.out_of_bounds;
+    max_fitness = std::max(max_fitness, batch.fitness[j]);
+  }
+  return r;
+}
+
+HistoryRow history_row(const EliteArchive& archive, std::uint64_t evaluations, double qd_score,
+                       double max_fitness, double qd_offset) {
+  HistoryRow row;
+  row.evaluations = evaluations;
+  row.coverage = archive.coverage();
+  row.qd_score = qd_score;
+  row.max_fitness = archive.empty() ? qd_offset : max_fitness;
+  return row;
+}
 
 void save_counters(const SearchCounters& counters, ResumeState& state) {
   state.counters["invalid"] = counters.invalid;

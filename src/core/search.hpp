@@ -8,6 +8,7 @@
 #include <string>
 #include <vector>
 
+#include "core/archive.hpp"
 #include "core/snapshot.hpp"
 #include "core/types.hpp"
 
@@ -18,9 +19,9 @@ using EvaluateFn = std::function<void(Batch&)>;
 
 struct SearchSettings {
   std::uint64_t seed = 1;
-  std::size_t batch = 256;              // candidates per batch
-  std::uint64_t evaluations = 100000;   // budget: total evaluations
-  std::uint64_t initial = 0;            // random genomes first; 0 = one batch
+  std::size_t batch = 256;             // candidates per batch
+  std::uint64_t evaluations = 100000;  // budget: total evaluations
+  std::uint64_t initial = 0;           // random genomes first; 0 = one batch
   std::uint64_t effective_initial() const { return initial == 0 ? batch : initial; }
 };
 
@@ -60,6 +61,19 @@ class SearchAlgorithm {
   // Continues from a saved snapshot; throws std::invalid_argument when it does not fit.
   virtual void restore(const ArchiveSnapshot& in) = 0;
 };
+
+// Offers candidate j of an evaluated batch to `archive` and keeps the running figures every
+// search reports in step with it: the counters, the QD-score (kept incrementally) and the max
+// fitness over valid candidates (which equals the max over elites: elites only give way to
+// better ones). Shared by every algorithm so they count alike.
+InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::size_t j,
+                             std::uint64_t birth, double qd_offset, SearchCounters& counters,
+                             double& qd_score, double& max_fitness);
+
+// The history row after a batch. Before the first elite the max fitness is the lowest possible
+// one, keeping the stored value finite.
+HistoryRow history_row(const EliteArchive& archive, std::uint64_t evaluations, double qd_score,
+                       double max_fitness, double qd_offset);
 
 // Counters <-> ResumeState, shared by the algorithms.
 void save_counters(const SearchCounters& counters, ResumeState& state);
