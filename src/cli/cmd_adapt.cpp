@@ -18,6 +18,7 @@
 #include <vector>
 
 #include "cli/commands.hpp"
+#include "cli/hardware_caution.hpp"
 #include "cli/format.hpp"
 #include "core/adaptation.hpp"
 #include "core/errors.hpp"
@@ -31,10 +32,6 @@ namespace tessera::cli {
 namespace {
 
 namespace fs = std::filesystem;
-
-const char* kCaution =
-    "caution: before a genome drives real hardware, validate it in simulation first, start at "
-    "low power with an emergency stop within reach, and follow your lab's safety rules.";
 
 struct AdaptOptions {
   std::string archive;
@@ -333,7 +330,7 @@ int run_adapt(const AdaptOptions& o) {
   log.descriptor_size = d;
 
   const bool text = o.format == "text";
-  if (source->drives_hardware()) std::cerr << "tessera: " << kCaution << "\n";
+  if (source->drives_hardware()) std::cerr << "tessera: " << kHardwareCaution << "\n";
   if (text) {
     std::cout << "adapting with " << with_thousands(n) << " elites of " << o.archive
               << "; trials: " << source->name()
@@ -427,7 +424,7 @@ int run_adapt(const AdaptOptions& o) {
     } else {
       out["choice"] = nullptr;
     }
-    out["caution"] = kCaution;
+    out["caution"] = kHardwareCaution;
     std::cout << out.dump(2) << "\n";
   } else {
     std::cout << "stopped: " << log.stop_reason << "\n";
@@ -436,7 +433,7 @@ int run_adapt(const AdaptOptions& o) {
       std::cout << "choice: trial " << *best + 1 << ", cell " << r.cell << ", measured "
                 << brief(r.measured) << " (the map predicted " << brief(r.prior) << ")\n"
                 << "  genome " << vector_text(r.genome) << "\n"
-                << kCaution << "\n";
+                << kHardwareCaution << "\n";
     }
   }
   if (!o.log.empty() && text) std::cout << "trial log: " << o.log << "\n";

@@ -3,6 +3,7 @@
 #include <cstdio>
 
 #include "cli/format.hpp"
+#include "cli/hardware_caution.hpp"
 #include "core/map_elites.hpp"
 
 namespace tessera::cli {
@@ -38,6 +39,7 @@ void print_summary(std::ostream& out, const PreparedRun& run, const std::string&
   for (const auto& [reason, count] : run.problem->failure_counts())
     out << "failed       " << reason << ": " << with_thousands(count) << "\n";
   out << "archive      " << archive_path << "\n";
+  if (may_drive_hardware(info.name, info.origin)) out << kHardwareCaution << "\n";
 }
 
 }  // namespace tessera::cli
