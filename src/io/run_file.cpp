@@ -322,13 +322,6 @@ std::vector<std::string> known_algorithms() {
   return {"map-elites", "novelty", "novelty-lc", "objective", "random"};
 }
 
-std::string RunConfig::section_toml(const std::string& section) const {
-  const toml::table root = toml::parse(resolved_toml);
-  std::ostringstream out;
-  if (const auto* t = root[section].as_table()) out << *t;
-  return out.str();
-}
-
 RunConfig parse_run_text(const std::string& text, const std::string& source,
                          const std::string& base_dir, const std::vector<std::string>& overrides) {
   const Checker checker(source);

@@ -37,7 +37,6 @@ struct RunConfig {
   SpaceConfig space;
   CheckpointConfig checkpoint;
   std::string resolved_toml;   // the whole run file with defaults, as stored in archives
-  std::string section_toml(const std::string& section) const;  // one table of the resolved file
 };
 
 // Reads a run file and applies KEY=VALUE overrides (VALUE in TOML syntax; bare words are
