@@ -148,3 +148,16 @@ struct MetadataStore {
 };
 
 }  // namespace tessera::plugin_glue
+
+// The four exports every plugin built on this glue writes alike: the ABI version, the problem
+// name, tsr_describe (from the instance's `metadata` store) and tsr_destroy. Expand once at file
+// scope, after `struct tsr_instance` is complete.
+#define TESSERA_GLUE_STANDARD_EXPORTS(problem_name)                                   \
+  extern "C" {                                                                        \
+  TSR_EXPORT uint32_t tsr_abi_version(void) { return TSR_ABI_VERSION; }               \
+  TSR_EXPORT const char* tsr_problem_name(void) { return problem_name; }              \
+  TSR_EXPORT void tsr_describe(const tsr_instance* instance, tsr_metadata* out) {     \
+    instance->metadata.describe(out);                                                 \
+  }                                                                                   \
+  TSR_EXPORT void tsr_destroy(tsr_instance* instance) { delete instance; }            \
+  }

@@ -88,15 +88,9 @@ struct tsr_instance {
   glue::MetadataStore metadata;
 };
 
+TESSERA_GLUE_STANDARD_EXPORTS(kName)
+
 extern "C" {
-
-TSR_EXPORT uint32_t tsr_abi_version(void) {
-  return TSR_ABI_VERSION;
-}
-
-TSR_EXPORT const char* tsr_problem_name(void) {
-  return kName;
-}
 
 TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_t error_size) {
   try {
@@ -152,10 +146,6 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
   return nullptr;
 }
 
-TSR_EXPORT void tsr_describe(const tsr_instance* instance, tsr_metadata* out) {
-  instance->metadata.describe(out);
-}
-
 TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* genomes,
                             double* fitness, double* descriptors, unsigned char* valid,
                             double* extras, char* error, size_t error_size) {
@@ -179,10 +169,6 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
     return TSR_ERROR;
   }
   return TSR_OK;
-}
-
-TSR_EXPORT void tsr_destroy(tsr_instance* instance) {
-  delete instance;
 }
 
 }  // extern "C"

@@ -56,14 +56,8 @@ void MapElitesSearch::step() {
 }
 
 SearchFigures MapElitesSearch::figures() const {
-  SearchFigures f;
-  f.evaluations = counters_.evaluations;
-  f.budget = settings_.evaluations;
-  f.coverage = archive_.coverage();
-  f.qd_score = qd_score_;
-  f.max_fitness = archive_.empty() ? qd_offset_ : max_fitness_;
-  f.elites = archive_.size();
-  return f;
+  return search_figures(archive_, counters_, settings_.evaluations, qd_score_, max_fitness_,
+                        qd_offset_, archive_.size());
 }
 
 void save_space(const DescriptorSpace& space, ArchiveSnapshot& out) {

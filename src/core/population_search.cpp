@@ -283,14 +283,8 @@ void PopulationSearch::step() {
 }
 
 SearchFigures PopulationSearch::figures() const {
-  SearchFigures f;
-  f.evaluations = counters_.evaluations;
-  f.budget = settings_.evaluations;
-  f.coverage = reference_.coverage();
-  f.qd_score = qd_score_;
-  f.max_fitness = reference_.empty() ? qd_offset_ : max_fitness_;
-  f.elites = archive_.size();
-  return f;
+  return search_figures(reference_, counters_, settings_.evaluations, qd_score_, max_fitness_,
+                        qd_offset_, archive_.size());
 }
 
 void PopulationSearch::save(ArchiveSnapshot& out) const {

@@ -41,6 +41,21 @@ HistoryRow history_row(const EliteArchive& archive, std::uint64_t evaluations, d
   return row;
 }
 
+SearchFigures search_figures(const EliteArchive& archive, const SearchCounters& counters,
+                             std::uint64_t budget, double qd_score, double max_fitness,
+                             double qd_offset, std::size_t elites) {
+  const HistoryRow row =
+      history_row(archive, counters.evaluations, qd_score, max_fitness, qd_offset);
+  SearchFigures f;
+  f.evaluations = row.evaluations;
+  f.budget = budget;
+  f.coverage = row.coverage;
+  f.qd_score = row.qd_score;
+  f.max_fitness = row.max_fitness;
+  f.elites = elites;
+  return f;
+}
+
 void save_counters(const SearchCounters& counters, ResumeState& state) {
   state.counters["invalid"] = counters.invalid;
   state.counters["out_of_bounds"] = counters.out_of_bounds;

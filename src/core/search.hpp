@@ -75,6 +75,11 @@ InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::siz
 HistoryRow history_row(const EliteArchive& archive, std::uint64_t evaluations, double qd_score,
                        double max_fitness, double qd_offset);
 
+// The progress figures of a search: the history row it would write now, plus budget and size.
+SearchFigures search_figures(const EliteArchive& archive, const SearchCounters& counters,
+                             std::uint64_t budget, double qd_score, double max_fitness,
+                             double qd_offset, std::size_t elites);
+
 // Counters <-> ResumeState, shared by the algorithms.
 void save_counters(const SearchCounters& counters, ResumeState& state);
 SearchCounters load_counters(const ResumeState& state, std::uint64_t evaluations);
