@@ -17,8 +17,8 @@
 #include <string>
 #include <vector>
 
-#include "core/rng.hpp"
-#include "core/snapshot.hpp"
+#include "core/base/rng.hpp"
+#include "core/archive/snapshot.hpp"
 #include "io/archive_file.hpp"
 
 #include "bench_timing.hpp"

@@ -16,10 +16,10 @@
 #include <string>
 #include <vector>
 
-#include "core/novelty.hpp"
-#include "core/population_search.hpp"
-#include "core/rng.hpp"
-#include "core/variation.hpp"
+#include "core/search/novelty.hpp"
+#include "core/search/population_search.hpp"
+#include "core/base/rng.hpp"
+#include "core/search/variation.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "problems/registry.hpp"
 

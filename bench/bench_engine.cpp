@@ -13,10 +13,10 @@
 #include <vector>
 
 #include "arm/arm_model.hpp"
-#include "core/cvt.hpp"
-#include "core/map_elites.hpp"
-#include "core/variation.hpp"
-#include "core/variation_emitter.hpp"
+#include "core/archive/cvt.hpp"
+#include "core/search/map_elites.hpp"
+#include "core/search/variation.hpp"
+#include "core/search/variation_emitter.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "problems/registry.hpp"
 

@@ -17,8 +17,8 @@
 #include <memory>
 #include <vector>
 
-#include "core/adaptation.hpp"
-#include "core/rng.hpp"
+#include "core/models/adaptation.hpp"
+#include "core/base/rng.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "problems/registry.hpp"
 

@@ -19,9 +19,9 @@
 #include <string>
 #include <vector>
 
-#include "core/map_elites.hpp"
-#include "core/space.hpp"
-#include "core/variation_emitter.hpp"
+#include "core/search/map_elites.hpp"
+#include "core/archive/space.hpp"
+#include "core/search/variation_emitter.hpp"
 #include "eval/problem_factory.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "io/run_file.hpp"

@@ -15,9 +15,9 @@
 #include <cstdlib>
 #include <vector>
 
-#include "core/map_elites.hpp"
-#include "core/rng.hpp"
-#include "core/variation_emitter.hpp"
+#include "core/search/map_elites.hpp"
+#include "core/base/rng.hpp"
+#include "core/search/variation_emitter.hpp"
 #include "eval/cluster.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "problems/registry.hpp"

@@ -9,8 +9,8 @@
 #include <numeric>
 #include <vector>
 
-#include "core/query.hpp"
-#include "core/rng.hpp"
+#include "core/select/query.hpp"
+#include "core/base/rng.hpp"
 
 #include "bench_timing.hpp"
 

@@ -10,9 +10,9 @@
 #include <ctime>
 #include <vector>
 
-#include "core/cvt.hpp"
-#include "core/nearest.hpp"
-#include "core/rng.hpp"
+#include "core/archive/cvt.hpp"
+#include "core/archive/nearest.hpp"
+#include "core/base/rng.hpp"
 
 #include "bench_timing.hpp"
 

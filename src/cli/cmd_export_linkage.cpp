@@ -21,7 +21,7 @@
 
 #include "cli/commands.hpp"
 #include "cli/selection_args.hpp"
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "io/archive_file.hpp"
 #include "io/linkage_archive.hpp"
 #include "io/table_output.hpp"

@@ -8,9 +8,9 @@
 
 #include "cli/commands.hpp"
 #include "cli/selection_args.hpp"
-#include "core/errors.hpp"
-#include "core/front.hpp"
-#include "core/query.hpp"
+#include "core/base/errors.hpp"
+#include "core/select/front.hpp"
+#include "core/select/query.hpp"
 #include "io/archive_file.hpp"
 #include "io/table_output.hpp"
 

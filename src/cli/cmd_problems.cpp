@@ -9,7 +9,7 @@
 #include <vector>
 
 #include "cli/commands.hpp"
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "problems/plugin_problem.hpp"
 #include "problems/registry.hpp"
 

@@ -7,7 +7,7 @@
 
 #include "cli/commands.hpp"
 #include "cli/selection_args.hpp"
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "io/archive_file.hpp"
 #include "report/arena_panels.hpp"
 #include "report/html_report.hpp"

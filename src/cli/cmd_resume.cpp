@@ -10,7 +10,7 @@
 #include "cli/commands.hpp"
 #include "cli/run_driver.hpp"
 #include "cli/summary.hpp"
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "io/archive_file.hpp"
 
 namespace tessera::cli {

@@ -15,9 +15,9 @@
 #include <vector>
 
 #include "cli/commands.hpp"
-#include "core/errors.hpp"
-#include "core/quartiles.hpp"
-#include "core/rng.hpp"
+#include "core/base/errors.hpp"
+#include "core/stats/quartiles.hpp"
+#include "core/base/rng.hpp"
 #include "eval/problem_factory.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "io/archive_file.hpp"

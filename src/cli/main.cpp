@@ -6,7 +6,7 @@
 #include "cli/commands.hpp"
 #include "cli/run_setup.hpp"
 #include "eval/cluster.hpp"
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 
 namespace {
 

@@ -2,10 +2,10 @@
 
 #include <stdexcept>
 
-#include "core/errors.hpp"
-#include "core/map_elites.hpp"
-#include "core/population_search.hpp"
-#include "core/variation_emitter.hpp"
+#include "core/base/errors.hpp"
+#include "core/search/map_elites.hpp"
+#include "core/search/population_search.hpp"
+#include "core/search/variation_emitter.hpp"
 #include "eval/problem_factory.hpp"
 #include "io/cvt_cache.hpp"
 

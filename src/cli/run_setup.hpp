@@ -8,8 +8,8 @@
 #include <memory>
 #include <string>
 
-#include "core/search.hpp"
-#include "core/snapshot.hpp"
+#include "core/search/search.hpp"
+#include "core/archive/snapshot.hpp"
 #include "eval/cluster.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "io/run_file.hpp"

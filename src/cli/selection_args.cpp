@@ -3,7 +3,7 @@
 #include <charconv>
 #include <cmath>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "io/table_output.hpp"
 
 namespace tessera::cli {

@@ -4,7 +4,7 @@
 
 #include "cli/format.hpp"
 #include "cli/hardware_caution.hpp"
-#include "core/map_elites.hpp"
+#include "core/search/map_elites.hpp"
 
 namespace tessera::cli {
 

@@ -11,7 +11,7 @@
 #include <memory>
 #include <string>
 
-#include "core/search.hpp"
+#include "core/search/search.hpp"
 #include "problems/problem.hpp"
 
 namespace tessera::cluster {

@@ -10,7 +10,7 @@
 #include <stdexcept>
 #include <vector>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "eval/cluster.hpp"
 #include "eval/thread_evaluator.hpp"
 

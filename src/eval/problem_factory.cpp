@@ -1,6 +1,6 @@
 #include "eval/problem_factory.hpp"
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "eval/process_problem.hpp"
 #include "problems/registry.hpp"
 

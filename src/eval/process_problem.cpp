@@ -27,7 +27,7 @@
 #include <thread>
 #include <vector>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 
 extern char** environ;
 

@@ -8,7 +8,7 @@
 #include <mutex>
 #include <vector>
 
-#include "core/types.hpp"
+#include "core/base/types.hpp"
 #include "problems/problem.hpp"
 
 namespace tessera {

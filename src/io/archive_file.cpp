@@ -24,8 +24,8 @@
 #include <system_error>
 #include <vector>
 
-#include "core/errors.hpp"
-#include "core/space.hpp"
+#include "core/base/errors.hpp"
+#include "core/archive/space.hpp"
 #include "io/chunk_codec.hpp"
 #include "io/snapshot_check.hpp"
 

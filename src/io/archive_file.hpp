@@ -4,7 +4,7 @@
 
 #include <string>
 
-#include "core/snapshot.hpp"
+#include "core/archive/snapshot.hpp"
 
 namespace tessera {
 

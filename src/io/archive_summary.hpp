@@ -20,7 +20,7 @@
 
 #include <nlohmann/json.hpp>
 
-#include "core/snapshot.hpp"
+#include "core/archive/snapshot.hpp"
 
 namespace tessera {
 

@@ -6,7 +6,7 @@
 #include <string>
 #include <vector>
 
-#include "core/cvt.hpp"
+#include "core/archive/cvt.hpp"
 
 namespace tessera {
 

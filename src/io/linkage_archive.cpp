@@ -4,7 +4,7 @@
 
 #include <exception>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 
 namespace tessera {
 

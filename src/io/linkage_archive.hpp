@@ -9,7 +9,7 @@
 
 #include "../../plugins/linkage/linkage_model.hpp"
 #include "../../plugins/linkage/linkage_options.hpp"
-#include "core/snapshot.hpp"
+#include "core/archive/snapshot.hpp"
 
 namespace tessera {
 

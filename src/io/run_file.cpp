@@ -10,7 +10,7 @@
 #include <map>
 #include <sstream>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 
 namespace tessera {
 namespace {

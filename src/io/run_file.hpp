@@ -7,10 +7,10 @@
 #include <string>
 #include <vector>
 
-#include "core/cvt.hpp"
-#include "core/population_search.hpp"
-#include "core/search.hpp"
-#include "core/variation_emitter.hpp"
+#include "core/archive/cvt.hpp"
+#include "core/search/population_search.hpp"
+#include "core/search/search.hpp"
+#include "core/search/variation_emitter.hpp"
 #include "problems/problem_spec.hpp"
 
 namespace tessera {

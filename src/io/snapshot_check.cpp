@@ -4,7 +4,7 @@
 #include <string>
 #include <vector>
 
-#include "core/space.hpp"
+#include "core/archive/space.hpp"
 
 namespace tessera {
 namespace {

@@ -9,7 +9,7 @@
 #include <optional>
 #include <string>
 
-#include "core/snapshot.hpp"
+#include "core/archive/snapshot.hpp"
 
 namespace tessera {
 

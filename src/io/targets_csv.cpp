@@ -6,7 +6,7 @@
 #include <fstream>
 #include <map>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 
 namespace tessera {
 namespace {

@@ -11,7 +11,7 @@
 #include <filesystem>
 #include <stdexcept>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 
 namespace tessera {
 namespace {

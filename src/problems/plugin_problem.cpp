@@ -9,7 +9,7 @@
 #include <stdexcept>
 #include <string_view>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 
 namespace tessera {
 namespace {

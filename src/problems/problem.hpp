@@ -9,7 +9,7 @@
 #include <string>
 #include <vector>
 
-#include "core/types.hpp"
+#include "core/base/types.hpp"
 
 namespace tessera {
 

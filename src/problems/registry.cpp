@@ -7,7 +7,7 @@
 #include <set>
 #include <system_error>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "problems/plugin_problem.hpp"
 
 namespace tessera {

@@ -8,7 +8,7 @@
 #include <sstream>
 
 #include "../../plugins/arena/arena_options.hpp"
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "report/svg_chart.hpp"
 
 namespace tessera {

@@ -8,7 +8,7 @@
 #include <vector>
 
 #include "../../plugins/arena/arena_layout.hpp"
-#include "core/snapshot.hpp"
+#include "core/archive/snapshot.hpp"
 #include "report/html_report.hpp"
 
 namespace tessera {

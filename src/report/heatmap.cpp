@@ -5,7 +5,7 @@
 #include <cstdio>
 #include <map>
 
-#include "core/nearest.hpp"
+#include "core/archive/nearest.hpp"
 #include "report/colormap.hpp"
 #include "report/svg_chart.hpp"
 

@@ -9,7 +9,7 @@
 #include <string>
 #include <vector>
 
-#include "core/snapshot.hpp"
+#include "core/archive/snapshot.hpp"
 #include "report/png_image.hpp"
 #include "report/voronoi_cells.hpp"
 

@@ -8,7 +8,7 @@
 #include <filesystem>
 #include <fstream>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "io/archive_summary.hpp"
 #include "report/heatmap.hpp"
 #include "report/png_image.hpp"

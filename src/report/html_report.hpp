@@ -7,9 +7,9 @@
 #include <string>
 #include <vector>
 
-#include "core/front.hpp"
-#include "core/query.hpp"
-#include "core/snapshot.hpp"
+#include "core/select/front.hpp"
+#include "core/select/query.hpp"
+#include "core/archive/snapshot.hpp"
 
 namespace tessera {
 

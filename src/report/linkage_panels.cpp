@@ -5,7 +5,7 @@
 #include <cstdio>
 #include <limits>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "report/svg_chart.hpp"
 
 namespace tessera {

@@ -6,7 +6,7 @@
 #include <string>
 #include <vector>
 
-#include "core/snapshot.hpp"
+#include "core/archive/snapshot.hpp"
 #include "io/linkage_archive.hpp"
 #include "report/html_report.hpp"
 

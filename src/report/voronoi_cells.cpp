@@ -3,7 +3,7 @@
 #include <algorithm>
 #include <cmath>
 
-#include "core/query.hpp"
+#include "core/select/query.hpp"
 
 namespace tessera {
 namespace {

@@ -12,8 +12,8 @@
 #include <string>
 #include <vector>
 
-#include "core/rng.hpp"
-#include "core/snapshot.hpp"
+#include "core/base/rng.hpp"
+#include "core/archive/snapshot.hpp"
 
 namespace tessera::testing {
 

@@ -22,7 +22,7 @@
 #include <thread>
 #include <vector>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "io/archive_file.hpp"
 #include "support/sample_snapshot.hpp"
 

@@ -16,7 +16,7 @@
 #include "arena/arena_raster.hpp"
 #include "arena/arena_robot.hpp"
 #include "arena/arena_sim.hpp"
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "problems/registry.hpp"
 
 using namespace tessera::arena;

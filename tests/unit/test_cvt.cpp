@@ -17,8 +17,8 @@
 #include <string>
 #include <vector>
 
-#include "core/cvt.hpp"
-#include "core/nearest.hpp"
+#include "core/archive/cvt.hpp"
+#include "core/archive/nearest.hpp"
 
 namespace {
 

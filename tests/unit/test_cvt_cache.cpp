@@ -11,7 +11,7 @@
 #include <string>
 #include <vector>
 
-#include "core/cvt.hpp"
+#include "core/archive/cvt.hpp"
 #include "io/cvt_cache.hpp"
 
 namespace {

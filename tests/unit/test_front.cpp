@@ -7,8 +7,8 @@
 #include <algorithm>
 #include <vector>
 
-#include "core/front.hpp"
-#include "core/rng.hpp"
+#include "core/select/front.hpp"
+#include "core/base/rng.hpp"
 
 namespace {
 

@@ -14,8 +14,8 @@
 #include <string>
 #include <vector>
 
-#include "core/errors.hpp"
-#include "core/types.hpp"
+#include "core/base/errors.hpp"
+#include "core/base/types.hpp"
 #include "gait/gait_controller.hpp"
 #include "problems/registry.hpp"
 

@@ -17,8 +17,8 @@
 #include <string>
 #include <vector>
 
-#include "core/adaptation.hpp"
-#include "core/gaussian_process.hpp"
+#include "core/models/adaptation.hpp"
+#include "core/models/gaussian_process.hpp"
 
 namespace {
 

@@ -5,9 +5,9 @@
 #include <limits>
 #include <memory>
 
-#include "core/archive.hpp"
-#include "core/rng.hpp"
-#include "core/space.hpp"
+#include "core/archive/archive.hpp"
+#include "core/base/rng.hpp"
+#include "core/archive/space.hpp"
 
 using namespace tessera;
 

@@ -10,8 +10,8 @@
 #include <string>
 #include <vector>
 
-#include "core/errors.hpp"
-#include "core/types.hpp"
+#include "core/base/errors.hpp"
+#include "core/base/types.hpp"
 #include "linkage/linkage_model.hpp"
 #include "problems/registry.hpp"
 

@@ -7,8 +7,8 @@
 #include <map>
 #include <memory>
 
-#include "core/map_elites.hpp"
-#include "core/variation_emitter.hpp"
+#include "core/search/map_elites.hpp"
+#include "core/search/variation_emitter.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "support/arm_problem.hpp"
 

@@ -14,10 +14,10 @@
 #include <utility>
 #include <vector>
 
-#include "core/novelty.hpp"
-#include "core/nsga2.hpp"
-#include "core/quartiles.hpp"
-#include "core/rng.hpp"
+#include "core/search/novelty.hpp"
+#include "core/search/nsga2.hpp"
+#include "core/stats/quartiles.hpp"
+#include "core/base/rng.hpp"
 
 using namespace tessera;
 

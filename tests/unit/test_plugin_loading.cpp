@@ -16,10 +16,10 @@
 #include <vector>
 
 #include "arm/arm_model.hpp"
-#include "core/errors.hpp"
-#include "core/map_elites.hpp"
-#include "core/space.hpp"
-#include "core/variation_emitter.hpp"
+#include "core/base/errors.hpp"
+#include "core/search/map_elites.hpp"
+#include "core/archive/space.hpp"
+#include "core/search/variation_emitter.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "problems/plugin_problem.hpp"
 #include "problems/registry.hpp"

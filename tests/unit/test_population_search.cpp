@@ -15,7 +15,7 @@
 #include <numeric>
 #include <string>
 
-#include "core/population_search.hpp"
+#include "core/search/population_search.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "io/archive_file.hpp"
 #include "problems/registry.hpp"

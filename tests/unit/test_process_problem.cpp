@@ -22,7 +22,7 @@
 #include <string>
 #include <vector>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "eval/process_problem.hpp"
 #include "eval/thread_evaluator.hpp"
 

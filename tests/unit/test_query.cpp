@@ -9,8 +9,8 @@
 #include <utility>
 #include <vector>
 
-#include "core/query.hpp"
-#include "core/rng.hpp"
+#include "core/select/query.hpp"
+#include "core/base/rng.hpp"
 
 namespace {
 

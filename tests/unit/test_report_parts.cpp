@@ -14,7 +14,7 @@
 #include <string>
 #include <vector>
 
-#include "core/errors.hpp"
+#include "core/base/errors.hpp"
 #include "io/table_output.hpp"
 #include "io/targets_csv.hpp"
 #include "report/colormap.hpp"

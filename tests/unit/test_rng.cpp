@@ -5,7 +5,7 @@
 #include <cmath>
 #include <vector>
 
-#include "core/rng.hpp"
+#include "core/base/rng.hpp"
 
 using namespace tessera;
 

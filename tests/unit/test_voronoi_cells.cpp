@@ -6,7 +6,7 @@
 #include <cmath>
 #include <vector>
 
-#include "core/rng.hpp"
+#include "core/base/rng.hpp"
 #include "report/voronoi_cells.hpp"
 
 namespace {

@@ -1,0 +1,119 @@
+#include "core/archive/archive.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <stdexcept>
+#include <string>
+
+namespace tessera {
+
+const char* to_string(Insertion outcome) {
+  switch (outcome) {
+    case Insertion::new_cell: return "new-cell";
+    case Insertion::improved: return "improved";
+    case Insertion::rejected: return "rejected";
+    case Insertion::invalid: return "invalid";
+  }
+  return "?";
+}
+
+EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::size_t genome_size)
+    : space_(std::move(space)), genome_size_(genome_size),
+      descriptor_size_(space_->dimensions()) {
+  if (space_->cell_count() > kMaxCells)
+    throw std::invalid_argument("archive: more than 2^28 cells");
+  slot_of_cell_.assign(static_cast<std::size_t>(space_->cell_count()), -1);
+}
+
+InsertResult EliteArchive::insert(std::span<const double> genome, double fitness,
+                                  std::span<const double> descriptor, std::uint64_t birth,
+                                  bool valid) {
+  InsertResult result;
+  bool finite = valid && std::isfinite(fitness);
+  for (double d : descriptor) finite = finite && std::isfinite(d);
+  for (double g : genome) finite = finite && std::isfinite(g);
+  if (!finite) {
+    result.outcome = Insertion::invalid;
+    return result;
+  }
+  const CellLookup lookup = space_->cell_of(descriptor);
+  result.cell = lookup.cell;
+  result.clamped = lookup.clamped;
+  const auto slot = slot_of_cell_[static_cast<std::size_t>(lookup.cell)];
+  std::size_t index;
+  if (slot < 0) {
+    index = cells_.size();
+    slot_of_cell_[static_cast<std::size_t>(lookup.cell)] = static_cast<std::int32_t>(index);
+    cells_.push_back(lookup.cell);
+    fitness_.push_back(fitness);
+    birth_.push_back(birth);
+    genomes_.insert(genomes_.end(), genome.begin(), genome.end());
+    descriptors_.insert(descriptors_.end(), descriptor.begin(), descriptor.end());
+    result.outcome = Insertion::new_cell;
+  } else {
+    index = static_cast<std::size_t>(slot);
+    if (!(fitness > fitness_[index])) {
+      result.outcome = Insertion::rejected;
+      return result;
+    }
+    result.replaced_fitness = fitness_[index];
+    fitness_[index] = fitness;
+    birth_[index] = birth;
+    std::copy(genome.begin(), genome.end(), genomes_.begin() + index * genome_size_);
+    std::copy(descriptor.begin(), descriptor.end(),
+              descriptors_.begin() + index * descriptor_size_);
+    result.outcome = Insertion::improved;
+  }
+  // An elite's descriptor always lies in its cell: out-of-bounds values are stored clamped.
+  if (lookup.clamped)
+    space_->clamp({descriptors_.data() + index * descriptor_size_, descriptor_size_});
+  return result;
+}
+
+void EliteArchive::restore(std::int64_t cell, std::span<const double> genome, double fitness,
+                           std::span<const double> descriptor, std::uint64_t birth) {
+  if (cell < 0 || cell >= space_->cell_count())
+    throw std::invalid_argument("elite cell " + std::to_string(cell) + " outside 0.." +
+                                std::to_string(space_->cell_count() - 1));
+  if (genome.size() != genome_size_ || descriptor.size() != descriptor_size_)
+    throw std::invalid_argument("elite genome or descriptor has the wrong length");
+  auto& slot = slot_of_cell_[static_cast<std::size_t>(cell)];
+  if (slot >= 0) throw std::invalid_argument("two elites in cell " + std::to_string(cell));
+  slot = static_cast<std::int32_t>(cells_.size());
+  cells_.push_back(cell);
+  fitness_.push_back(fitness);
+  birth_.push_back(birth);
+  genomes_.insert(genomes_.end(), genome.begin(), genome.end());
+  descriptors_.insert(descriptors_.end(), descriptor.begin(), descriptor.end());
+}
+
+std::optional<std::size_t> EliteArchive::elite_in(std::int64_t cell) const {
+  if (cell < 0 || cell >= space_->cell_count()) return std::nullopt;
+  const auto slot = slot_of_cell_[static_cast<std::size_t>(cell)];
+  if (slot < 0) return std::nullopt;
+  return static_cast<std::size_t>(slot);
+}
+
+double EliteArchive::coverage() const {
+  return static_cast<double>(cells_.size()) / static_cast<double>(space_->cell_count());
+}
+
+double EliteArchive::qd_score(double offset) const {
+  double sum = 0.0;
+  for (double f : fitness_) sum += f - offset;
+  return sum;
+}
+
+double EliteArchive::max_fitness() const {
+  double best = -std::numeric_limits<double>::infinity();
+  for (double f : fitness_) best = std::max(best, f);
+  return best;
+}
+
+std::optional<std::size_t> EliteArchive::best() const {
+  if (fitness_.empty()) return std::nullopt;
+  return static_cast<std::size_t>(std::max_element(fitness_.begin(), fitness_.end()) -
+                                  fitness_.begin());
+}
+
+}  // namespace tessera

@@ -1,0 +1,83 @@
+// The elite archive: at most one elite per cell of a descriptor space, the best found there.
+#pragma once
+
+#include <cstdint>
+#include <limits>
+#include <memory>
+#include <optional>
+#include <span>
+#include <vector>
+
+#include "core/archive/space.hpp"
+
+namespace tessera {
+
+// What happened to one candidate offered to the archive.
+enum class Insertion : std::uint8_t {
+  new_cell,   // entered an empty cell
+  improved,   // replaced a worse elite
+  rejected,   // the incumbent was at least as good (ties keep the incumbent)
+  invalid,    // fitness or descriptor not finite, or the evaluation failed
+};
+
+const char* to_string(Insertion outcome);
+
+struct InsertResult {
+  Insertion outcome = Insertion::rejected;
+  bool clamped = false;       // descriptor was outside the bounds (counted, sent to an edge cell)
+  std::int64_t cell = -1;     // -1 when invalid
+  double replaced_fitness = 0.0;  // the former elite's fitness when outcome == improved
+};
+
+// Elites are kept in the order their cells were first filled. That order is part of the state
+// (uniform parent selection indexes into it), so it is saved and restored with the archive.
+class EliteArchive {
+ public:
+  EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::size_t genome_size);
+
+  // The one insertion path for every space kind.
+  InsertResult insert(std::span<const double> genome, double fitness,
+                      std::span<const double> descriptor, std::uint64_t birth, bool valid = true);
+
+  // Puts an elite back exactly as saved (used when reading an archive file). Throws
+  // std::invalid_argument if the cell is out of range or already filled.
+  void restore(std::int64_t cell, std::span<const double> genome, double fitness,
+               std::span<const double> descriptor, std::uint64_t birth);
+
+  const DescriptorSpace& space() const { return *space_; }
+  std::shared_ptr<const DescriptorSpace> space_ptr() const { return space_; }
+  std::size_t genome_size() const { return genome_size_; }
+  std::size_t descriptor_size() const { return descriptor_size_; }
+
+  std::size_t size() const { return cells_.size(); }
+  bool empty() const { return cells_.empty(); }
+  std::int64_t cell(std::size_t i) const { return cells_[i]; }
+  double fitness(std::size_t i) const { return fitness_[i]; }
+  std::uint64_t birth(std::size_t i) const { return birth_[i]; }
+  std::span<const double> genome(std::size_t i) const {
+    return {genomes_.data() + i * genome_size_, genome_size_};
+  }
+  std::span<const double> descriptor(std::size_t i) const {
+    return {descriptors_.data() + i * descriptor_size_, descriptor_size_};
+  }
+  // Index of the elite in `cell`, if any.
+  std::optional<std::size_t> elite_in(std::int64_t cell) const;
+
+  double coverage() const;                       // filled cells / cells
+  double qd_score(double offset) const;          // sum of (fitness - offset)
+  double max_fitness() const;                    // -inf when empty
+  std::optional<std::size_t> best() const;       // index of the fittest elite (first on ties)
+
+ private:
+  std::shared_ptr<const DescriptorSpace> space_;
+  std::size_t genome_size_;
+  std::size_t descriptor_size_;
+  std::vector<std::int32_t> slot_of_cell_;  // -1 = empty
+  std::vector<std::int64_t> cells_;
+  std::vector<double> fitness_;
+  std::vector<std::uint64_t> birth_;
+  std::vector<double> genomes_;
+  std::vector<double> descriptors_;
+};
+
+}  // namespace tessera

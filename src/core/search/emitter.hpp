@@ -1,0 +1,38 @@
+// Emitters are sources of new candidates. The search loop asks an emitter for a batch of
+// genomes, evaluates them, offers them to the archive and tells the emitter what happened, so
+// new emitters (CMA-based, novelty-driven, ...) plug in without touching the loop.
+#pragma once
+
+#include <cstdint>
+#include <span>
+#include <string>
+
+#include "core/archive/archive.hpp"
+#include "core/archive/snapshot.hpp"
+#include "core/base/types.hpp"
+
+namespace tessera {
+
+struct EmitContext {
+  std::uint64_t seed = 0;
+  std::uint64_t batch_index = 0;       // keys the random streams together with the candidate
+  std::uint64_t first_candidate = 0;   // global index of the batch's first candidate
+  std::uint64_t initial = 0;           // candidates with a global index below this are random
+  const Bounds* genome_bounds = nullptr;
+};
+
+class Emitter {
+ public:
+  virtual ~Emitter() = default;
+  virtual std::string name() const = 0;
+  // Writes batch.count genomes into batch.genomes. Must draw randomness only from streams keyed
+  // by (seed, batch_index, candidate) so that the result never depends on threads.
+  virtual void ask(const EliteArchive& archive, const EmitContext& context, Batch& batch) = 0;
+  // Sees the evaluated batch and the archive's answer for each candidate.
+  virtual void tell(const Batch& /*batch*/, std::span<const InsertResult> /*results*/) {}
+  // Emitters with state beyond the random streams save it for checkpoints.
+  virtual void save(ResumeState& /*state*/) const {}
+  virtual void load(const ResumeState& /*state*/) {}
+};
+
+}  // namespace tessera

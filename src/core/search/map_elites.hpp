@@ -1,0 +1,57 @@
+// MAP-Elites (Mouret & Clune 2015) over a grid or CVT archive (Vassiliades et al., IEEE TEVC
+// 2018): a random initial batch, then batches of children of elites; each batch is evaluated in
+// parallel and inserted in candidate order, so the run is bit-identical for any thread count.
+#pragma once
+
+#include <memory>
+
+#include "core/archive/archive.hpp"
+#include "core/search/emitter.hpp"
+#include "core/search/search.hpp"
+
+namespace tessera {
+
+class MapElitesSearch final : public SearchAlgorithm {
+ public:
+  MapElitesSearch(SearchSettings settings, std::shared_ptr<const DescriptorSpace> space,
+                  Bounds genome_bounds, double qd_offset, std::unique_ptr<Emitter> emitter,
+                  EvaluateFn evaluate, std::size_t extra_size = 0);
+
+  std::string name() const override { return "map-elites"; }
+  void step() override;
+  const SearchSettings& settings() const override { return settings_; }
+  const SearchCounters& counters() const override { return counters_; }
+  const std::vector<HistoryRow>& history() const override { return history_; }
+  SearchFigures figures() const override;
+  void set_budget(std::uint64_t evaluations) override { settings_.evaluations = evaluations; }
+  void save(ArchiveSnapshot& out) const override;
+  void restore(const ArchiveSnapshot& in) override;
+
+  const EliteArchive& archive() const { return archive_; }
+  // The last batch and what the archive did with each candidate (for tests and emitters).
+  const Batch& last_batch() const { return batch_; }
+  const std::vector<InsertResult>& last_results() const { return results_; }
+
+ private:
+  SearchSettings settings_;
+  EliteArchive archive_;
+  Bounds genome_bounds_;
+  double qd_offset_;
+  std::unique_ptr<Emitter> emitter_;
+  EvaluateFn evaluate_;
+  std::size_t extra_size_;
+  SearchCounters counters_;
+  std::uint64_t next_batch_ = 0;
+  double qd_score_ = 0.0;  // kept incrementally; restored from the last history row
+  double max_fitness_;
+  std::vector<HistoryRow> history_;
+  Batch batch_;
+  std::vector<InsertResult> results_;
+};
+
+// Fills the /space part of a snapshot from a space (grid or cvt).
+void save_space(const DescriptorSpace& space, ArchiveSnapshot& out);
+// Builds the space a snapshot describes (grid or cvt); throws std::invalid_argument.
+std::shared_ptr<const DescriptorSpace> space_from_snapshot(const ArchiveSnapshot& in);
+
+}  // namespace tessera

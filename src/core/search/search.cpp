@@ -1,0 +1,80 @@
+#include "core/search/search.hpp"
+
+#include <algorithm>
+
+namespace tessera {
+
+InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::size_t j,
+                             std::uint64_t birth, double qd_offset, SearchCounters& counters,
+                             double& qd_score, double& max_fitness) {
+  const InsertResult r = archive.insert(batch.genome(j), batch.fitness[j], batch.descriptor(j),
+                                        birth, batch.valid[j] != 0);
+  switch (r.outcome) {
+    case Insertion::new_cell:
+      ++counters.new_cells;
+      qd_score += batch.fitness[j] - qd_offset;
+      break;
+    case Insertion::improved:
+      ++counters.improvements;
+      qd_score += batch.fitness[j] - r.replaced_fitness;
+      break;
+    case Insertion::rejected:
+      break;
+    case Insertion::invalid:
+      ++counters.invalid;
+      break;
+  }
+  if (r.outcome != Insertion::invalid) {
+    if (r.clamped) ++counters.out_of_bounds;
+    max_fitness = std::max(max_fitness, batch.fitness[j]);
+  }
+  return r;
+}
+
+HistoryRow history_row(const EliteArchive& archive, std::uint64_t evaluations, double qd_score,
+                       double max_fitness, double qd_offset) {
+  HistoryRow row;
+  row.evaluations = evaluations;
+  row.coverage = archive.coverage();
+  row.qd_score = qd_score;
+  row.max_fitness = archive.empty() ? qd_offset : max_fitness;
+  return row;
+}
+
+SearchFigures search_figures(const EliteArchive& archive, const SearchCounters& counters,
+                             std::uint64_t budget, double qd_score, double max_fitness,
+                             double qd_offset, std::size_t elites) {
+  const HistoryRow row =
+      history_row(archive, counters.evaluations, qd_score, max_fitness, qd_offset);
+  SearchFigures f;
+  f.evaluations = row.evaluations;
+  f.budget = budget;
+  f.coverage = row.coverage;
+  f.qd_score = row.qd_score;
+  f.max_fitness = row.max_fitness;
+  f.elites = elites;
+  return f;
+}
+
+void save_counters(const SearchCounters& counters, ResumeState& state) {
+  state.counters["invalid"] = counters.invalid;
+  state.counters["out_of_bounds"] = counters.out_of_bounds;
+  state.counters["new_cells"] = counters.new_cells;
+  state.counters["improvements"] = counters.improvements;
+}
+
+SearchCounters load_counters(const ResumeState& state, std::uint64_t evaluations) {
+  SearchCounters c;
+  c.evaluations = evaluations;
+  auto get = [&](const char* key) {
+    auto it = state.counters.find(key);
+    return it == state.counters.end() ? std::uint64_t{0} : it->second;
+  };
+  c.invalid = get("invalid");
+  c.out_of_bounds = get("out_of_bounds");
+  c.new_cells = get("new_cells");
+  c.improvements = get("improvements");
+  return c;
+}
+
+}  // namespace tessera
