@@ -1,4 +1,4 @@
-// Arena and novelty figures (issue 5), on one core:
+// Arena and novelty figures, on one core:
 //   1. arena evaluations per second per core (the plugin, deceptive arena and larger maze);
 //   2. the share of a novelty run's time spent on the k-nearest-neighbour scores as the novelty
 //      archive grows to 10,000 behaviours (a run whose threshold admits nearly every child);

@@ -1,4 +1,4 @@
-// Gait problem and recovery figures (issue 7): MuJoCo evaluations per second per core and the
+// Gait problem and recovery figures: MuJoCo evaluations per second per core and the
 // simulator's real-time factor; the time to build a repertoire of 100,000 evaluations on this
 // machine (measured with every core through the thread evaluator); the adaptation overhead per
 // trial (GP update + UCB choice) for a map of 10,000 cells, against one simulated and one

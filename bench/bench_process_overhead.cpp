@@ -1,4 +1,4 @@
-// Overhead per evaluation of the two ways to bring a problem from outside (issue 6), each
+// Overhead per evaluation of the two ways to bring a problem from outside, each
 // against an in-process call of the same arm function (plugins/arm/arm_model.hpp, 10 joints):
 //   plugin   the arm plugin loaded with dlopen, called through the C ABI in chunks of
 //            ThreadEvaluator::kChunk genomes, as the engine does;

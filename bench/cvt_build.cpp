@@ -1,4 +1,4 @@
-// CVT construction figures: time to build 10,000 centroids in 6-D (the reference size)
+// CVT construction figures: time to build 10,000 centroids in 6-D (a reference size of ours)
 // with 1 and 2 threads, and the per-query cost of the k-d tree against a plain scan for a few
 // centroid counts (which sets NearestCentroid::scan_limit). Medians of a few repeats.
 #include <tbb/global_control.h>

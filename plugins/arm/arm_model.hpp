@@ -48,7 +48,7 @@ inline void evaluate(const double* theta, std::size_t n, double& fitness, double
   fitness = -angle_variance(theta, n);
 }
 
-// Damage and a reaching task (issue 7), for recovery by trial and error. A stuck joint holds
+// Damage and a reaching task, for recovery by trial and error. A stuck joint holds
 // `stuck_angle` whatever the genome asks; with a target the fitness is minus the Euclidean
 // distance from the end effector to it. The descriptor stays the end effector actually reached.
 struct ArmDamage {

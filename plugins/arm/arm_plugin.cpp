@@ -1,6 +1,6 @@
 // The `arm` problem as a plugin: the C ABI of include/tessera/plugin.h around arm_model.hpp.
 // Options ([problem.options]): joints (integer, default 10); damage and task for recovery by
-// trial and error (issue 7): stuck_joint (0-based index), stuck_angle (radians, default 0),
+// trial and error: stuck_joint (0-based index), stuck_angle (radians, default 0),
 // target = [x, y] (fitness becomes minus the distance of the end effector to the target).
 #include <tessera/plugin.h>
 
@@ -19,7 +19,7 @@ namespace {
 
 constexpr const char* kName = "arm";
 
-// Every option of the arm problem; new options (issue 7) go here and into check_keys below.
+// Every option of the arm problem; new options go here and into check_keys below.
 struct ArmOptions {
   std::size_t joints = 10;
   tessera::arm::ArmDamage damage;

@@ -1,5 +1,5 @@
-# ctest-labels: issue7
-"""`tessera adapt` on the planar arm with a stuck joint (issue 7): recovery by trial and error
+# ctest-labels: adaptation
+"""`tessera adapt` on the planar arm with a stuck joint: recovery by trial and error
 over the intact arm's repertoire (Cully, Clune, Tarapore & Mouret, Nature 2015).
 
 Checked against outside references: every measured value equals numpy's forward kinematics of

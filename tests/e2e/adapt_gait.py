@@ -1,6 +1,6 @@
-# ctest-labels: issue7;slow
+# ctest-labels: adaptation;slow
 # ctest-timeout: 900
-"""Recovery after damage for the MuJoCo walker (issue 7): a small repertoire of the intact robot
+"""Recovery after damage for the MuJoCo walker: a small repertoire of the intact robot
 (5,000 evaluations over 500 CVT cells, built here), then `tessera adapt` on each shipped damage
 case (problems/gait-damage-*.toml). The first trial is the intact robot's best elite (h5py finds
 it; it is the UCB choice while every sigma is equal), measured on the damaged robot. In at least

@@ -1,6 +1,6 @@
 # ctest-labels: slow
 # ctest-timeout: 900
-"""The deceptive arena does its job (issue 5): with the same run file and budget, novelty search
+"""The deceptive arena does its job: with the same run file and budget, novelty search
 (Lehman & Stanley, EC 2011) brings the robot to the goal in at least 4 of 5 seeds, the objective
 control in at most 1. A run reaches the goal when its best robot ends within the goal zone (0.75 m
 radius): max fitness (minus the final distance) >= -0.75. Only --set search.algorithm differs

@@ -1,4 +1,4 @@
-# ctest-labels: issue5
+# ctest-labels: arena
 """Arena runs through the command line: run-file-relative layout paths, --set search.algorithm
 for every population search, resume and thread counts bit-identical for novelty search, the
 report's arena drawing, and

@@ -1,4 +1,4 @@
-# Every bad-file case of issue 3 given to `tessera inspect` and `tessera resume`: exit code 2,
+# Every bad-file case given to `tessera inspect` and `tessera resume`: exit code 2,
 # exactly one line on stderr naming the file and the fault, nothing on stdout from inspect, and
 # no file created or changed in the folder. Damaged archives are made with h5py (Debian
 # python3-h5py) from a valid archive written by tests/tools/write_sample_archive.

@@ -1,4 +1,4 @@
-# ctest-labels: issue2
+# ctest-labels: engine
 """`tessera illuminate problems/arm.toml` end to end: the archive h5py reads back holds, for every
 elite, exactly the descriptor and fitness that numpy recomputes from the stored genome, in the
 grid cell that the archive-format formula gives; 1,000,000 evaluations cover more than 70% of the

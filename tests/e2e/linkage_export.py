@@ -1,4 +1,4 @@
-# ctest-labels: issue8
+# ctest-labels: linkage
 """`tessera illuminate problems/linkage-compact.toml` with a small budget, then `tessera
 export-linkage`: the CSV (read with numpy) holds a rigid four-bar whose link lengths stay those of
 the elite's genome (read with h5py) at every crank angle, whose coupler-point path has the size

@@ -1,4 +1,4 @@
-# ctest-labels: issue9;mpi
+# ctest-labels: mpi
 # ctest-timeout: 900
 """MPI-distributed evaluation gives the same archive as one process: `mpirun -n 3` (rank 0
 coordinates, ranks 1-2 evaluate) against a single-process run, for the arm and for a problem with

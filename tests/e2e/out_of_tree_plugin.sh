@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
-# ctest-labels: issue6
+# ctest-labels: plugins
 # ctest-timeout: 900
-# Out-of-tree plugins (issue 6): install this build into a temporary prefix, build the example
+# Out-of-tree plugins: install this build into a temporary prefix, build the example
 # plugin problems/examples/plugin-example against it with find_package(Tessera) and
 # tessera_add_plugin(), then check that the installed tessera lists it (and the installed shipped
 # plugins), and runs a small illumination with it whose elites a numpy recomputation confirms.

@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# ctest-labels: issue6
+# ctest-labels: plugins
 # `tessera problems` lists every shipped problem with its plugin file and ABI version, and lists
 # the faulty fixture plugins (tests/fixtures/bad_plugins) as refused, each with its reason; an
 # unknown name is one line on stderr, exit code 2.

@@ -1,6 +1,6 @@
-# ctest-labels: issue6
+# ctest-labels: plugins
 # ctest-timeout: 900
-"""External evaluator processes through `tessera illuminate` (issue 6), archives read with h5py.
+"""External evaluator processes through `tessera illuminate`, archives read with h5py.
 
 1. The Python arm worker (problems/examples/arm_worker.py, numpy) finds the same elites as the
    arm plugin for the same seed, with 1 and 3 worker processes: same cells, bit-identical

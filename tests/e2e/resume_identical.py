@@ -1,4 +1,4 @@
-# ctest-labels: issue3
+# ctest-labels: archive
 """Interrupt-and-resume equals the uninterrupted run, bit for bit (elites, fitness, history), for
 a grid and a CVT archive: (1) a plain stop at a budget boundary then `resume --evaluations N`;
 (2) a real SIGINT at a random moment, exit code 130, then resume. Thread counts differ on purpose

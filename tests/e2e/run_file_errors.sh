@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# ctest-labels: issue2
+# ctest-labels: engine
 # A run file with an unknown key, a wrong type or an impossible value is refused with the file,
 # the line and the key named, in one line, exit code 2, and no output folder is created.
 set -u

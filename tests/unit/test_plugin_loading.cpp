@@ -173,7 +173,7 @@ TEST_CASE("plugin output is bit-identical to the in-process model", "[bits]") {
 }
 
 TEST_CASE("MAP-Elites archives are bit-identical with the plugin and in-process", "[bits]") {
-  // Issue 6: the shipped problems as plugins give the same archives as in-process versions.
+  // The shipped problems as plugins give the same archives as in-process versions.
   use_plugin_path(kPluginDir);
   for (const auto& s : shipped()) {
     INFO(s.name);

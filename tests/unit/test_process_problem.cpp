@@ -1,4 +1,4 @@
-// External evaluator processes (issue 6): the JSON line protocol, the Python arm worker against
+// External evaluator processes: the JSON line protocol, the Python arm worker against
 // the closed form, and each kind of worker fault. The test workers live in
 // tests/fixtures/workers/ (fixture_protocol.py describes the function they compute and how their
 // faults are triggered by the genome, which this file mirrors).
