@@ -75,7 +75,7 @@ ArchiveSnapshot make_snapshot(std::size_t n, std::size_t g) {
   }
   for (std::uint64_t t = 1; t <= 100; ++t)
     s.history.push_back({t * n / 10, 0.01 * t, -1.0 * t, -0.5});
-  s.qd_offset = -10.0;
+  s.fitness_floor = -10.0;
   tessera::ResumeState r;
   r.algorithm = "map-elites";
   r.next_batch = 100;

@@ -1,4 +1,4 @@
-// The planar arm problem (DESIGN.md "Shipped problems", normative): n joints, every link 1/n
+// The planar arm problem (README.md "Shipped problems", normative): n joints, every link 1/n
 // long, base at the origin. Pure math on the standard library only, so that tests call exactly
 // the code the plugin runs.
 #pragma once

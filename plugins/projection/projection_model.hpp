@@ -1,4 +1,4 @@
-// The linear-projection benchmarks sphere-proj and rastrigin-proj (DESIGN.md "Shipped problems",
+// The linear-projection benchmarks sphere-proj and rastrigin-proj (README.md "Shipped problems",
 // normative; after Fontaine et al., GECCO 2020, parameters from memory). Pure math on the
 // standard library only, so that tests call exactly the code the plugins run.
 #pragma once

@@ -27,7 +27,7 @@ Faults are survivable but cost time: a worker that exits is restarted and its re
 once; one that answers nothing for `timeout` seconds is killed and restarted, and that
 evaluation fails. A worker runs with the user's rights: Tessera does not sandbox it.
 
-The arm (DESIGN.md, "Shipped problems"): n joints with angles theta_i in [-pi, pi], every link
+The arm (README.md, "Shipped problems"): n joints with angles theta_i in [-pi, pi], every link
 1/n long, base at the origin. End effector p = sum_i (1/n)(cos a_i, sin a_i) with
 a_i = theta_1 + ... + theta_i; descriptor = p in [-1, 1]^2; fitness = -(population variance of
 the n angles), between -pi^2 and 0. n is the length of the genome.

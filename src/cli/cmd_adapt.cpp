@@ -296,10 +296,10 @@ int run_adapt(const AdaptOptions& o) {
     spec.declared.genome = map.genome_bounds;
     spec.declared.descriptor = map.descriptor_bounds;
     spec.declared.descriptor_names = map.descriptor_names;
-    spec.declared.fitness_lower = map.qd_offset;
+    spec.declared.fitness_lower = map.fitness_floor;
     spec.declared.fitness_upper = std::numeric_limits<double>::infinity();
     source = std::make_unique<ProblemSource>(open_process_problem(spec),
-                                             "process: " + o.trial_process, true, map.qd_offset);
+                                             "process: " + o.trial_process, true, map.fitness_floor);
   } else {
     std::shared_ptr<Problem> problem = open_problem(config->problem);
     const ProblemInfo& info = problem->info();

@@ -1,6 +1,7 @@
 // `tessera front ARCHIVE.h5 --objective fitness:max --objective NAME:min|max ... [--within ...]
 // [--format text|json|csv]`: the non-dominated elites among those within the constraints, sorted
 // by the first objective, best first.
+#include <cmath>
 #include <iostream>
 #include <memory>
 #include <string>
@@ -34,7 +35,20 @@ int run_front(const FrontOptions& o) {
   const auto named = parse_objectives(o.objectives, s, o.archive);
   EliteFilter filter;
   filter.within = parse_within(o.within, s, o.archive);
-  const auto rows = filter_elites(s, filter);
+  std::vector<std::size_t> rows;
+  std::size_t not_recorded = 0;  // elites lacking a stored figure an objective names
+  for (std::size_t e : filter_elites(s, filter)) {
+    bool known = true;
+    for (const auto& n : named) known = known && std::isfinite(objective_value(s, e, n.objective));
+    if (known)
+      rows.push_back(e);
+    else
+      ++not_recorded;
+  }
+  if (rows.empty() && not_recorded > 0)
+    throw InputError(o.archive +
+                     ": no elite within the constraints has every objective recorded (" +
+                     std::to_string(not_recorded) + " lack one)");
   if (rows.empty())
     throw InputError(o.archive + ": no elite satisfies the constraints (" +
                      describe_filter(filter, s) + "); the archive holds " +
@@ -54,6 +68,7 @@ int run_front(const FrontOptions& o) {
   }
   table.header["objectives"] = header;
   table.header["candidates"] = rows.size();
+  if (not_recorded > 0) table.header["without_objective_figures"] = not_recorded;
   std::vector<std::string> genome_parts;
   for (std::size_t i = 0; i < s.genome_size(); ++i) genome_parts.push_back(std::to_string(i));
   table.columns = {{"rank", {}},
@@ -62,6 +77,8 @@ int run_front(const FrontOptions& o) {
                    {"fitness", {}},
                    {"descriptor", s.descriptor_names, 8},
                    {"genome", genome_parts, 4}};
+  const std::size_t x = s.extra_size();
+  if (x > 0) table.columns.push_back({"extras", s.extra_names, 4});
   const std::size_t d = s.descriptor_size(), g = s.genome_size();
   for (std::size_t r = 0; r < front.size(); ++r) {
     const std::size_t e = front[r];
@@ -71,6 +88,9 @@ int run_front(const FrontOptions& o) {
         {static_cast<std::int64_t>(r + 1), s.cell[e], values, s.fitness[e],
          std::vector<double>(s.descriptor.begin() + e * d, s.descriptor.begin() + (e + 1) * d),
          std::vector<double>(s.genome.begin() + e * g, s.genome.begin() + (e + 1) * g)});
+    if (x > 0)
+      table.rows.back().emplace_back(
+          std::vector<double>(s.extras.begin() + e * x, s.extras.begin() + (e + 1) * x));
   }
   write_table(std::cout, table, o.format);
   return 0;
@@ -83,14 +103,17 @@ void register_front(CLI::App& app) {
   auto* cmd = app.add_subcommand(
       "front",
       "Print the trade-off front: the elites no other elite beats on every objective at once\n"
-      "(each objective is the fitness or a descriptor, minimised or maximised), among those\n"
-      "within the constraints; sorted by the first objective, best first.");
+      "(each objective is the fitness, a descriptor or a stored extra figure, minimised or\n"
+      "maximised), among those within the constraints; sorted by the first objective, best\n"
+      "first.");
   cmd->add_option("ARCHIVE", o->archive, "archive file (.h5) written by tessera")->required();
   cmd->add_option("--objective", o->objectives,
-                  "NAME:min or NAME:max, NAME = fitness or a descriptor name; two or more")
+                  "NAME:min or NAME:max, NAME = fitness, a descriptor or an extra figure the "
+                  "elites keep; two or more")
       ->required();
   cmd->add_option("--within", o->within,
-                  "only elites with LO <= descriptor NAME <= HI; NAME=LO:HI, repeatable");
+                  "only elites with LO <= NAME <= HI, NAME a descriptor or an extra figure; "
+                  "NAME=LO:HI, repeatable");
   cmd->add_option("--format", o->format, "text (default), json or csv")
       ->check(CLI::IsMember({"text", "json", "csv"}));
   cmd->callback([o] { throw CLI::RuntimeError(run_front(*o)); });

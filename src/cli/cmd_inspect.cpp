@@ -44,6 +44,7 @@ void print_text(std::ostream& out, const ArchiveSummary& s) {
     out << "  " << key << std::string(width < 14 ? 14 - width : 1, ' ') << value << "\n";
   };
   out << s.file << "\n";
+  row("format", "tessera archive, format " + std::to_string(s.archive_format));
   row("problem", s.problem);
   row("written by", "tessera " + s.tool_version);
   row("seed", std::to_string(s.seed));
@@ -60,10 +61,20 @@ void print_text(std::ostream& out, const ArchiveSummary& s) {
     row("  " + s.descriptor_names[i], "[" + exact(s.descriptor_bounds.lower[i]) + ", " +
                                           exact(s.descriptor_bounds.upper[i]) + "]");
   row("genome", std::to_string(s.genome_size) + " parameters");
+  if (!s.extra_names.empty()) {
+    std::string names;
+    for (std::size_t i = 0; i < s.extra_names.size() && i < 8; ++i)
+      names += (i ? ", " : "") + s.extra_names[i];
+    if (s.extra_names.size() > 8)
+      names += ", ... " + std::to_string(s.extra_names.size() - 8) + " more";
+    row("extra figures", std::to_string(s.extra_names.size()) + " per elite (" + names + ")");
+  } else if (s.archive_format < 2) {
+    row("extra figures", "- (not kept by format " + std::to_string(s.archive_format) + ")");
+  }
   row("evaluations", with_thousands(s.evaluations));
   row("elites", with_thousands(s.elites));
   row("coverage", percent(s.coverage));
-  row("QD-score", exact(s.qd_score) + " (offset " + exact(s.qd_offset) + ")");
+  row("QD-score", exact(s.qd_score) + " (fitness floor " + exact(s.fitness_floor) + ")");
   row("max fitness", s.max_fitness ? exact(*s.max_fitness) : "- (no elites)");
   if (s.best) {
     row("best elite", "cell " + std::to_string(s.best->cell) + ", fitness " +
@@ -71,7 +82,10 @@ void print_text(std::ostream& out, const ArchiveSummary& s) {
                           std::to_string(s.best->birth));
     row("  descriptor", list(s.best->descriptor, 16));
     row("  genome", list(s.best->genome, 16));
+    if (!s.best->extras.empty()) row("  extras", list(s.best->extras, 16));
   }
+  if (s.novelty_archive)
+    row("novelty archive", with_thousands(*s.novelty_archive) + " behaviours (/novelty_archive)");
   row("invalid", s.invalid ? with_thousands(*s.invalid) : "- (not recorded)");
   row("out of bounds", s.out_of_bounds ? with_thousands(*s.out_of_bounds) : "- (not recorded)");
   if (!s.failures.empty()) {

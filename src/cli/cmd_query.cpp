@@ -75,6 +75,8 @@ int run_query(const QueryOptions& o) {
                    {"fitness", {}},
                    {"descriptor", s.descriptor_names, 8},
                    {"genome", genome_parts(s.genome_size()), 4}};
+  const std::size_t x = s.extra_size();
+  if (x > 0) table.columns.push_back({"extras", s.extra_names, 4});
   const std::size_t g = s.genome_size();
   for (const auto& target : targets) {
     const auto found = index.nearest(target, o.k);
@@ -84,6 +86,9 @@ int run_query(const QueryOptions& o) {
           {target, static_cast<std::int64_t>(r + 1), s.cell[e], found[r].distance, s.fitness[e],
            std::vector<double>(s.descriptor.begin() + e * d, s.descriptor.begin() + (e + 1) * d),
            std::vector<double>(s.genome.begin() + e * g, s.genome.begin() + (e + 1) * g)});
+      if (x > 0)
+        table.rows.back().emplace_back(
+            std::vector<double>(s.extras.begin() + e * x, s.extras.begin() + (e + 1) * x));
     }
   }
   write_table(std::cout, table, o.format);
@@ -111,7 +116,8 @@ void register_query(CLI::App& app) {
   cmd->add_option("--k,-k", o->k, "number of elites per requirement (default 1)");
   cmd->add_option("--min-fitness", o->min_fitness, "only elites with at least this fitness");
   cmd->add_option("--within", o->within,
-                  "only elites with LO <= descriptor NAME <= HI; NAME=LO:HI, repeatable");
+                  "only elites with LO <= NAME <= HI, NAME a descriptor or an extra figure the "
+                  "elites keep; NAME=LO:HI, repeatable");
   cmd->add_option("--format", o->format, "text (default), json or csv")
       ->check(CLI::IsMember({"text", "json", "csv"}));
   cmd->callback([o] { throw CLI::RuntimeError(run_query(*o)); });

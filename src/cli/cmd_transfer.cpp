@@ -1,8 +1,9 @@
 // `tessera transfer ARCHIVE.h5 --to RUNFILE [--sample N] [--format text|json|csv]`: re-evaluates
 // the elites of an archive in the problem of another run file (another arena, or any problem
-// with the same genome size) and reports every elite's new fitness, descriptor and extra figures,
-// then a summary: median and quartiles of each figure, and for each figure named "*_time" (the
-// first time a place was reached, -1 for never) how many elites reached it and when.
+// with the same genome size) and reports every elite's new fitness, descriptor and extra figures
+// beside the figures the archive stored for it (the "before": never re-evaluated), then a
+// summary: median and quartiles of each figure, and for each figure named "*_time" (the first
+// time a place was reached, -1 for never) how many elites reached it and when.
 #include <tbb/global_control.h>
 #include <tbb/info.h>
 
@@ -11,13 +12,14 @@
 #include <limits>
 #include <memory>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <string>
 #include <vector>
 
 #include "cli/commands.hpp"
 #include "core/base/errors.hpp"
-#include "core/stats/quartiles.hpp"
 #include "core/base/rng.hpp"
+#include "core/stats/quartiles.hpp"
 #include "eval/problem_factory.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "io/archive_file.hpp"
@@ -65,9 +67,26 @@ struct FigureSummary {
   bool timed = false;         // a "*_time" figure: quartiles over the elites that got there
   std::size_t reached = 0;
   Quartiles q;
+  // The same figure as the archive stored it for the same elites, when it has it.
+  std::optional<std::size_t> source_reached;  // timed figures
+  std::optional<double> source_median;
 };
 
-std::vector<FigureSummary> summarise(const Batch& batch, const std::vector<std::string>& names) {
+// Median and count of the stored figure over `rows` (NaN: not recorded, left out).
+void add_source(FigureSummary& f, const std::vector<std::size_t>& rows, auto stored_of) {
+  std::vector<double> values;
+  for (std::size_t row : rows) {
+    const double v = stored_of(row);
+    if (std::isnan(v) || (f.timed && !(v >= 0.0))) continue;
+    values.push_back(v);
+  }
+  if (f.timed) f.source_reached = values.size();
+  if (!values.empty()) f.source_median = quartiles(values).median;
+}
+
+std::vector<FigureSummary> summarise(const Batch& batch, const std::vector<std::string>& names,
+                                     const ArchiveSnapshot& s,
+                                     const std::vector<std::size_t>& rows) {
   std::vector<FigureSummary> out;
   auto add = [&](const std::string& name, auto value_of) {
     FigureSummary f;
@@ -83,6 +102,11 @@ std::vector<FigureSummary> summarise(const Batch& batch, const std::vector<std::
       values.push_back(v);
     }
     f.q = quartiles(values);
+    if (name == "fitness") {
+      add_source(f, rows, [&](std::size_t row) { return s.fitness[row]; });
+    } else if (const auto column = s.extra_index(name)) {
+      add_source(f, rows, [&](std::size_t row) { return s.extra(row, *column); });
+    }
     out.push_back(std::move(f));
   };
   add("fitness", [&](std::size_t k) { return batch.fitness[k]; });
@@ -107,6 +131,13 @@ Table elite_table(const ArchiveSnapshot& s, const std::vector<std::size_t>& rows
     shown.push_back(e);
     t.columns.push_back({info.extra_names[e], {}});
   }
+  // The stored figures of the same names: the elite's figures before the transfer.
+  std::vector<std::size_t> before;
+  for (std::size_t e : shown)
+    if (const auto column = s.extra_index(info.extra_names[e])) {
+      before.push_back(*column);
+      t.columns.push_back({"source_" + info.extra_names[e], {}});
+    }
   const std::size_t d = batch.descriptor_size;
   for (std::size_t k = 0; k < rows.size(); ++k) {
     // Built value by value: GCC 12 reports a false -Wmaybe-uninitialized on a braced list of
@@ -120,6 +151,7 @@ Table elite_table(const ArchiveSnapshot& s, const std::vector<std::size_t>& rows
     row.emplace_back(std::vector<double>(batch.descriptors.begin() + k * d,
                                          batch.descriptors.begin() + (k + 1) * d));
     for (std::size_t e : shown) row.emplace_back(batch.extras[k * batch.extra_size + e]);
+    for (std::size_t column : before) row.emplace_back(s.extra(rows[k], column));
     t.rows.push_back(std::move(row));
   }
   return t;
@@ -128,8 +160,8 @@ Table elite_table(const ArchiveSnapshot& s, const std::vector<std::size_t>& rows
 Table summary_table(const std::vector<FigureSummary>& figures) {
   Table t;
   t.list_key = "summary";
-  t.columns = {{"figure", {}}, {"evaluated", {}}, {"reached", {}},
-               {"q1", {}},     {"median", {}},    {"q3", {}}};
+  t.columns = {{"figure", {}}, {"evaluated", {}}, {"reached", {}},        {"q1", {}},
+               {"median", {}}, {"q3", {}},        {"source_reached", {}}, {"source_median", {}}};
   for (const auto& f : figures) {
     std::vector<TableValue> row;
     row.reserve(6);
@@ -141,6 +173,16 @@ Table summary_table(const std::vector<FigureSummary>& figures) {
       row.emplace_back(std::string("-"));
     }
     for (double v : {f.q.q1, f.q.median, f.q.q3}) row.emplace_back(v);
+    if (f.source_reached) {
+      row.emplace_back(static_cast<std::int64_t>(*f.source_reached));
+    } else {
+      row.emplace_back(std::string("-"));
+    }
+    if (f.source_median) {
+      row.emplace_back(*f.source_median);
+    } else {
+      row.emplace_back(std::string("-"));
+    }
     t.rows.push_back(std::move(row));
   }
   return t;
@@ -157,6 +199,12 @@ nlohmann::ordered_json summary_json(const std::vector<FigureSummary>& figures) {
     item["q1"] = number(f.q.q1);
     item["median"] = number(f.q.median);
     item["q3"] = number(f.q.q3);
+    if (f.timed) {
+      item["source_reached"] = f.source_reached ? nlohmann::ordered_json(*f.source_reached)
+                                                : nlohmann::ordered_json(nullptr);
+    }
+    item["source_median"] =
+        f.source_median ? number(*f.source_median) : nlohmann::ordered_json(nullptr);
     list.push_back(std::move(item));
   }
   return list;
@@ -191,7 +239,7 @@ int run_transfer(const TransferOptions& o) {
     }
   }
 
-  const auto figures = summarise(batch, info.extra_names);
+  const auto figures = summarise(batch, info.extra_names, s, rows);
   Table elites = elite_table(s, rows, batch, info);
   if (o.format == "json") {
     elites.header = {{"archive", o.archive},
@@ -215,7 +263,7 @@ int run_transfer(const TransferOptions& o) {
               << s.problem << ") re-evaluated in '" << info.name << "' of " << o.run_file << "\n\n";
     write_table_text(std::cout, elites);
     std::cout << "\nsummary (valid evaluations; *_time figures: over the elites that reached the "
-                 "place, -1 = never)\n";
+                 "place, -1 = never; source_*: as the archive stored them)\n";
     write_table_text(std::cout, summary);
   }
   return 0;
@@ -229,10 +277,11 @@ void register_transfer(CLI::App& app) {
       "transfer",
       "Re-evaluate the elites of an archive in another problem: another arena, or any problem\n"
       "whose genome has the same size (the run file's [problem] is used; its search settings\n"
-      "are not). Prints each elite's new fitness, descriptor and extra figures, then their\n"
-      "median and quartiles; for figures named *_time (first time a place was reached, -1 for\n"
-      "never) how many elites got there and when. CSV holds the per-elite rows (or, with\n"
-      "--summary, the summary); JSON holds both.");
+      "are not). Prints each elite's new fitness, descriptor and extra figures beside the\n"
+      "figures the archive stored for it (source_*), then their median and quartiles; for\n"
+      "figures named *_time (first time a place was reached, -1 for never) how many elites got\n"
+      "there and when. CSV holds the per-elite rows (or, with --summary, the summary); JSON\n"
+      "holds both.");
   cmd->add_option("ARCHIVE", o->archive, "archive file (.h5) written by tessera")->required();
   cmd->add_option("--to", o->run_file, "run file (TOML) naming the problem to evaluate in")
       ->required()

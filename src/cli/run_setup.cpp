@@ -45,8 +45,9 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
   if (saved && saved->resume)
     for (const auto& [key, count] : saved->resume->counters)
       if (key.rfind("failed:", 0) == 0) run.earlier_failures[key] = count;
-  // Population searches save an unstructured archive; their reference space (the [space] of
-  // the stored run file) is rebuilt, deterministically, from the configuration.
+  // Archives store the space their elites live in (population searches: the reference map);
+  // format 1 population archives stored an unstructured one, and their reference space (the
+  // [space] of the stored run file) is rebuilt, deterministically, from the configuration.
   if (saved && saved->space_kind != "unstructured") {
     try {
       space = space_from_snapshot(*saved);
@@ -97,6 +98,7 @@ ArchiveSnapshot snapshot_of(const PreparedRun& run) {
   ArchiveSnapshot out;
   run.search->save(out);
   out.problem = run.problem->info().name;
+  out.extra_names = run.problem->info().extra_names;
   out.config = run.config.resolved_toml;
   out.seed = run.config.search.seed;
   out.evaluations = run.search->counters().evaluations;

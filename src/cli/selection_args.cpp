@@ -57,6 +57,19 @@ std::size_t descriptor_index(const ArchiveSnapshot& s, const std::string& archiv
                    "' (descriptors: " + names_of(s) + ")");
 }
 
+FigureRef figure_index(const ArchiveSnapshot& s, const std::string& archive,
+                       const std::string& name, const std::string& option) {
+  for (std::size_t i = 0; i < s.descriptor_names.size(); ++i)
+    if (s.descriptor_names[i] == name) return {i, false};
+  for (std::size_t i = 0; i < s.extra_names.size(); ++i)
+    if (s.extra_names[i] == name) return {i, true};
+  std::string extras;
+  for (const auto& n : s.extra_names) extras += (extras.empty() ? "" : ", ") + n;
+  if (extras.empty()) extras = s.format_version == 1 ? "none: format 1 archives keep none" : "none";
+  throw InputError(archive + ": " + option + ": no descriptor or extra figure named '" + name +
+                   "' (descriptors: " + names_of(s) + "; extra figures: " + extras + ")");
+}
+
 std::vector<DescriptorInterval> parse_within(const std::vector<std::string>& specs,
                                              const ArchiveSnapshot& s, const std::string& archive) {
   std::vector<DescriptorInterval> out;
@@ -69,7 +82,13 @@ std::vector<DescriptorInterval> parse_within(const std::vector<std::string>& spe
         !parse_double(spec.substr(colon + 1), hi))
       throw InputError("--within '" + spec + "': expected NAME=LO:HI with numbers LO <= HI");
     if (lo > hi) throw InputError("--within '" + spec + "': LO is above HI");
-    out.push_back({descriptor_index(s, archive, trim(spec.substr(0, eq)), "--within"), lo, hi});
+    const FigureRef figure = figure_index(s, archive, trim(spec.substr(0, eq)), "--within");
+    DescriptorInterval interval;
+    interval.dimension = figure.index;
+    interval.extra = figure.extra;
+    interval.lower = lo;
+    interval.upper = hi;
+    out.push_back(interval);
   }
   return out;
 }
@@ -82,14 +101,17 @@ std::vector<NamedObjective> parse_objectives(const std::vector<std::string>& spe
     const std::string goal = colon == std::string::npos ? "" : trim(spec.substr(colon + 1));
     if (colon == std::string::npos || (goal != "min" && goal != "max"))
       throw InputError("--objective '" + spec + "': expected NAME:min or NAME:max (NAME is " +
-                       "fitness or a descriptor name)");
+                       "fitness, a descriptor or an extra figure name)");
     NamedObjective o;
     o.name = trim(spec.substr(0, colon));
     o.objective.goal = goal == "min" ? Goal::minimize : Goal::maximize;
     // "fitness" is the elite's fitness even if a descriptor had that name.
     o.objective.fitness = o.name == "fitness";
-    if (!o.objective.fitness)
-      o.objective.dimension = descriptor_index(s, archive, o.name, "--objective");
+    if (!o.objective.fitness) {
+      const FigureRef figure = figure_index(s, archive, o.name, "--objective");
+      o.objective.dimension = figure.index;
+      o.objective.extra = figure.extra;
+    }
     out.push_back(o);
   }
   return out;
@@ -110,8 +132,9 @@ std::string describe_filter(const EliteFilter& f, const ArchiveSnapshot& s) {
   std::string out;
   if (f.min_fitness) out = "--min-fitness " + exact_number(*f.min_fitness);
   for (const auto& w : f.within)
-    out += (out.empty() ? "" : ", ") + std::string("--within ") + s.descriptor_names[w.dimension] +
-           "=" + exact_number(w.lower) + ":" + exact_number(w.upper);
+    out += (out.empty() ? "" : ", ") + std::string("--within ") +
+           (w.extra ? s.extra_names[w.dimension] : s.descriptor_names[w.dimension]) + "=" +
+           exact_number(w.lower) + ":" + exact_number(w.upper);
   return out.empty() ? "no constraints" : out;
 }
 

@@ -1,15 +1,16 @@
-// Command-line forms shared by query, front and report: descriptor intervals (--within
-// NAME=LO:HI), objectives (--objective NAME:min|max), number lists (--target 0.1,0.2) and axis
-// pairs (--axes NAME1,NAME2). Names resolve against the archive's descriptor names; faults are
+// Command-line forms shared by query, front and report: intervals (--within NAME=LO:HI),
+// objectives (--objective NAME:min|max), number lists (--target 0.1,0.2) and axis pairs (--axes
+// NAME1,NAME2). Axes resolve against the archive's descriptor names; intervals and objectives
+// against its descriptor names, then the extra figures its elites keep (format 2). Faults are
 // tessera::InputError naming the archive or the option.
 #pragma once
 
 #include <string>
 #include <vector>
 
+#include "core/archive/snapshot.hpp"
 #include "core/select/front.hpp"
 #include "core/select/query.hpp"
-#include "core/archive/snapshot.hpp"
 
 namespace tessera::cli {
 
@@ -20,13 +21,21 @@ std::vector<double> parse_number_list(const std::string& text, const std::string
 std::size_t descriptor_index(const ArchiveSnapshot& snapshot, const std::string& archive,
                              const std::string& name, const std::string& option);
 
+// A descriptor or, failing that, a stored extra figure called `name`.
+struct FigureRef {
+  std::size_t index = 0;
+  bool extra = false;
+};
+FigureRef figure_index(const ArchiveSnapshot& snapshot, const std::string& archive,
+                       const std::string& name, const std::string& option);
+
 std::vector<DescriptorInterval> parse_within(const std::vector<std::string>& specs,
                                              const ArchiveSnapshot& snapshot,
                                              const std::string& archive);
 
 struct NamedObjective {
   Objective objective;
-  std::string name;  // "fitness" or the descriptor name
+  std::string name;  // "fitness", a descriptor or an extra figure name
 };
 
 // "fitness:max", "NAME:min"; the name "fitness" means the elite's fitness.

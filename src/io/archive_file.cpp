@@ -272,6 +272,21 @@ void write_strings(hid_t parent, const std::string& name, const std::vector<std:
     ok(H5Dwrite(ds.get(), type.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, pointers.data()), "H5Dwrite");
 }
 
+// /elites/extras is [N, E] even when the problem gives no extra figures; HDF5 chunks cannot have
+// a zero dimension, so that case is stored contiguous.
+void write_extras(hid_t elites, const std::vector<double>& extras, std::uint64_t rows,
+                  std::uint64_t cols) {
+  if (cols > 0) {
+    write_dataset(elites, "extras", extras, cols);
+    return;
+  }
+  const hsize_t dims[2] = {rows, 0};
+  const Handle space = space_handle(H5Screate_simple(2, dims, nullptr), "H5Screate_simple");
+  dataset_handle(H5Dcreate2(elites, "extras", Hdf5Types<double>::file(), space.get(), H5P_DEFAULT,
+                            H5P_DEFAULT, H5P_DEFAULT),
+                 "H5Dcreate2");
+}
+
 void write_contents(hid_t file, const ArchiveSnapshot& s) {
   write_string_attr(file, "format", "tessera-archive");
   write_scalar_attr<std::int64_t>(file, "format_version", kArchiveFormatVersion);
@@ -303,10 +318,19 @@ void write_contents(hid_t file, const ArchiveSnapshot& s) {
     write_dataset(elites.get(), "descriptor", s.descriptor, d);
     write_dataset(elites.get(), "fitness", s.fitness);
     write_dataset(elites.get(), "birth", s.birth);
+    write_strings(elites.get(), "extra_names", s.extra_names);
+    write_extras(elites.get(), s.extras, s.elite_count(), s.extra_size());
+  }
+  if (s.novelty_archive) {
+    const Handle behaviours = create_group(file, "novelty_archive");
+    write_dataset(behaviours.get(), "genome", s.novelty_archive->genome, s.genome_size());
+    write_dataset(behaviours.get(), "descriptor", s.novelty_archive->descriptor, d);
+    write_dataset(behaviours.get(), "fitness", s.novelty_archive->fitness);
+    write_dataset(behaviours.get(), "birth", s.novelty_archive->birth);
   }
   {
     const Handle history = create_group(file, "history");
-    write_scalar_attr<double>(history.get(), "qd_offset", s.qd_offset);
+    write_scalar_attr<double>(history.get(), "fitness_floor", s.fitness_floor);
     std::vector<std::uint64_t> evaluations;
     std::vector<double> coverage, qd_score, max_fitness;
     for (const HistoryRow& row : s.history) {
@@ -410,6 +434,8 @@ class Reader {
   void read_space(ArchiveSnapshot& s);
   void read_genome(ArchiveSnapshot& s);
   void read_elites(ArchiveSnapshot& s);
+  void read_extras(ArchiveSnapshot& s);
+  void read_novelty_archive(ArchiveSnapshot& s);
   void read_history(ArchiveSnapshot& s);
   void read_resume(ArchiveSnapshot& s);
 
@@ -422,7 +448,9 @@ class Reader {
   // is laid out otherwise (the caller then uses H5Dread).
   bool read_chunks(const Dataset& ds, hid_t props, unsigned char* out, std::size_t element_size,
                    hid_t memory_type);
-  std::vector<std::string> strings(const std::string& name, std::uint64_t expected);
+  // `expected` entries, as many as `counted_by` has (named in the message otherwise).
+  std::vector<std::string> strings(const std::string& name, std::uint64_t expected,
+                                   const std::string& counted_by);
 
   Handle attribute(hid_t obj, const std::string& where, const char* name, H5T_class_t type_class);
   std::string string_attr(hid_t obj, const std::string& where, const char* name);
@@ -595,10 +623,11 @@ bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
   return true;
 }
 
-std::vector<std::string> Reader::strings(const std::string& name, std::uint64_t expected) {
+std::vector<std::string> Reader::strings(const std::string& name, std::uint64_t expected,
+                                         const std::string& counted_by) {
   Dataset ds = dataset(name, H5T_STRING, 1);
   if (ds.elements != expected)
-    fail(name + " has " + std::to_string(ds.elements) + " entries but /space/lower has " +
+    fail(name + " has " + std::to_string(ds.elements) + " entries but " + counted_by + " has " +
          std::to_string(expected));
   std::vector<std::string> out;
   if (expected == 0) return out;
@@ -714,9 +743,13 @@ void Reader::read_root(ArchiveSnapshot& s) {
   if (string_attr(root, "/", "format") != "tessera-archive") fail(other_kind);
   const std::int64_t version = int_attr(root, "/", "format_version");
   if (version > kArchiveFormatVersion)
-    fail("written by a newer tessera (format " + std::to_string(version) +
-         "); this one reads format " + std::to_string(kArchiveFormatVersion));
-  if (version < 1) fail("unknown archive format version " + std::to_string(version));
+    fail("archive format " + std::to_string(version) +
+         " is newer than this tessera reads (formats " +
+         std::to_string(kOldestArchiveFormatVersion) + " to " +
+         std::to_string(kArchiveFormatVersion) + "); use a newer tessera");
+  if (version < kOldestArchiveFormatVersion)
+    fail("unknown archive format version " + std::to_string(version));
+  s.format_version = version;
   s.problem = string_attr(root, "/", "problem");
   s.config = string_attr(root, "/", "config");
   s.seed = uint_attr(root, "/", "seed");
@@ -740,7 +773,7 @@ void Reader::read_space(ArchiveSnapshot& s) {
          std::to_string(d));
   s.descriptor_bounds.lower = values<double>(lower);
   s.descriptor_bounds.upper = values<double>(upper);
-  s.descriptor_names = strings("/space/names", d);
+  s.descriptor_names = strings("/space/names", d, "/space/lower");
   if (s.space_kind == "grid") {
     Dataset res = dataset("/space/resolution", H5T_INTEGER, 1);
     if (res.elements != d)
@@ -808,9 +841,53 @@ void Reader::read_elites(ArchiveSnapshot& s) {
   s.descriptor = values<double>(descriptor);
 }
 
+// Format 2: the extra figures of every elite, [N, E], with their names [E].
+void Reader::read_extras(ArchiveSnapshot& s) {
+  Dataset extras = dataset("/elites/extras", H5T_FLOAT, 2);
+  const std::uint64_t n = s.elite_count();
+  if (extras.dims[0] != n)
+    fail("/elites/extras has " + std::to_string(extras.dims[0]) + " rows but /elites/fitness has " +
+         std::to_string(n));
+  const std::uint64_t e = extras.dims[1];
+  if (e > kMaxExtraSize)
+    fail("/elites/extras has " + std::to_string(e) + " columns, more than tessera reads");
+  s.extra_names = strings("/elites/extra_names", e, "/elites/extras (columns)");
+  s.extras = values<double>(extras);
+}
+
+// Format 2, population searches: their novelty archive, M rows without cells.
+void Reader::read_novelty_archive(ArchiveSnapshot& s) {
+  context_ = "/novelty_archive";
+  if (!exists("/novelty_archive")) return;
+  group("/novelty_archive");
+  Dataset fitness = dataset("/novelty_archive/fitness", H5T_FLOAT, 1);
+  Dataset birth = dataset("/novelty_archive/birth", H5T_INTEGER, 1);
+  Dataset genome = dataset("/novelty_archive/genome", H5T_FLOAT, 2);
+  Dataset descriptor = dataset("/novelty_archive/descriptor", H5T_FLOAT, 2);
+  const std::uint64_t m = fitness.elements;
+  for (const Dataset* ds : {&birth, &genome, &descriptor})
+    if (ds->dims[0] != m)
+      fail(ds->name + " has " + std::to_string(ds->dims[0]) +
+           " rows but /novelty_archive/fitness has " + std::to_string(m));
+  if (genome.dims[1] != s.genome_size())
+    fail("/novelty_archive/genome has " + std::to_string(genome.dims[1]) +
+         " columns but /genome/lower has " + std::to_string(s.genome_size()));
+  if (descriptor.dims[1] != s.descriptor_size())
+    fail("/novelty_archive/descriptor has " + std::to_string(descriptor.dims[1]) +
+         " columns but /space/lower has " + std::to_string(s.descriptor_size()));
+  BehaviourRows b;
+  b.fitness = values<double>(fitness);
+  b.birth = values<std::uint64_t>(birth);
+  b.genome = values<double>(genome);
+  b.descriptor = values<double>(descriptor);
+  s.novelty_archive = std::move(b);
+}
+
 void Reader::read_history(ArchiveSnapshot& s) {
   const Handle history = group("/history");
-  s.qd_offset = float_attr(history.get(), "/history", "qd_offset");
+  // Format 1 called the problem's lowest fitness the QD-score offset.
+  s.fitness_floor =
+      float_attr(history.get(), "/history", s.format_version >= 2 ? "fitness_floor" : "qd_offset");
   Dataset evaluations = dataset("/history/evaluations", H5T_INTEGER, 1);
   Dataset coverage = dataset("/history/coverage", H5T_FLOAT, 1);
   Dataset qd_score = dataset("/history/qd_score", H5T_FLOAT, 1);
@@ -905,6 +982,10 @@ ArchiveSnapshot Reader::read() {
     read_space(s);
     read_genome(s);
     read_elites(s);
+    if (s.format_version >= 2) {
+      read_extras(s);
+      read_novelty_archive(s);
+    }
     read_history(s);
     read_resume(s);
     file_.close("H5Fclose");

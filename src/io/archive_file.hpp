@@ -1,5 +1,6 @@
-// HDF5 archive files, format version 1 (DESIGN.md, normative), plus the /resume group that
-// carries a checkpoint's engine state.
+// HDF5 archive files. The layout is normative and written down in docs/archive-format.md: format
+// 2 is written; format 1 (no extras, population searches' novelty archive as unstructured
+// /elites, attribute qd_offset) is still read.
 #pragma once
 
 #include <string>
@@ -8,13 +9,14 @@
 
 namespace tessera {
 
-inline constexpr int kArchiveFormatVersion = 1;
+inline constexpr int kArchiveFormatVersion = 2;
+inline constexpr int kOldestArchiveFormatVersion = 1;
 
 // Writes the snapshot whole to a temporary file beside `path` (".NAME.tmp-HOST-PID"), flushes it
 // to disk and renames it over `path`, so that a reader or a crash never sees half a file; stale
 // temporary files of killed writers on this machine are removed. Elites are written in the
 // snapshot's order. Throws std::invalid_argument when the snapshot is not a valid
-// format 1 archive (nothing is touched), tessera::InputError "PATH: cannot write archive: ..."
+// archive (nothing is touched), tessera::InputError "PATH: cannot write archive: ..."
 // when the file system refuses; in both cases any previous file at `path` is left intact.
 void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot);
 
@@ -22,6 +24,7 @@ void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot
 // missing file, a file that is not HDF5 or not a tessera archive, a newer format version, a
 // truncated or damaged file, shapes that disagree and non-finite stored values. Every size read
 // from the file is checked before anything is allocated from it.
+// The snapshot's format_version is the file's.
 ArchiveSnapshot read_archive_file(const std::string& path);
 
 }  // namespace tessera

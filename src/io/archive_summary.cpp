@@ -1,10 +1,13 @@
 #include "io/archive_summary.hpp"
 
+#include <cmath>
+
 namespace tessera {
 
 ArchiveSummary summarize_archive(const ArchiveSnapshot& s, const std::string& file) {
   ArchiveSummary out;
   out.file = file;
+  out.archive_format = s.format_version;
   out.problem = s.problem;
   out.tool_version = s.tool_version;
   out.seed = s.seed;
@@ -15,26 +18,30 @@ ArchiveSummary summarize_archive(const ArchiveSnapshot& s, const std::string& fi
   out.descriptor_names = s.descriptor_names;
   if (s.space_kind == "grid") out.resolution = s.resolution;
   out.genome_size = s.genome_size();
+  out.extra_names = s.extra_names;
+  if (s.novelty_archive) out.novelty_archive = s.novelty_archive->size();
 
   const std::size_t n = s.elite_count();
   out.elites = n;
   out.coverage = out.cells > 0 ? static_cast<double>(n) / static_cast<double>(out.cells) : 0.0;
-  out.qd_offset = s.qd_offset;
+  out.fitness_floor = s.fitness_floor;
   // Same order and formula as EliteArchive::qd_score, so the figure matches /history exactly.
-  for (double f : s.fitness) out.qd_score += f - s.qd_offset;
+  for (double f : s.fitness) out.qd_score += f - s.fitness_floor;
   if (n > 0) {
     std::size_t best = 0;
     for (std::size_t i = 1; i < n; ++i)
       if (s.fitness[i] > s.fitness[best]) best = i;
     const std::size_t g = s.genome_size();
     const std::size_t d = s.descriptor_size();
+    const std::size_t e = s.extra_size();
     out.max_fitness = s.fitness[best];
     out.best = BestElite{best,
                          s.cell[best],
                          s.fitness[best],
                          s.birth[best],
                          {s.descriptor.begin() + best * d, s.descriptor.begin() + (best + 1) * d},
-                         {s.genome.begin() + best * g, s.genome.begin() + (best + 1) * g}};
+                         {s.genome.begin() + best * g, s.genome.begin() + (best + 1) * g},
+                         {s.extras.begin() + best * e, s.extras.begin() + (best + 1) * e}};
   }
   if (s.resume) {
     const auto& counters = s.resume->counters;
@@ -63,6 +70,13 @@ Json or_null(const std::optional<T>& v) {
   return v ? Json(*v) : Json(nullptr);
 }
 
+// JSON has no NaN: figures not recorded are null.
+Json numbers_or_null(const std::vector<double>& values) {
+  Json out = Json::array();
+  for (double v : values) out.push_back(std::isfinite(v) ? Json(v) : Json(nullptr));
+  return out;
+}
+
 }  // namespace
 
 void to_json(nlohmann::ordered_json& out, const ArchiveSummary& s) {
@@ -76,26 +90,33 @@ void to_json(nlohmann::ordered_json& out, const ArchiveSummary& s) {
   if (s.space_kind == "grid") space["resolution"] = s.resolution;
   Json best = nullptr;
   if (s.best)
-    best = {{"index", s.best->index},           {"cell", s.best->cell},
-            {"fitness", s.best->fitness},       {"birth", s.best->birth},
-            {"descriptor", s.best->descriptor}, {"genome", s.best->genome}};
+    best = {{"index", s.best->index},
+            {"cell", s.best->cell},
+            {"fitness", s.best->fitness},
+            {"birth", s.best->birth},
+            {"descriptor", s.best->descriptor},
+            {"genome", s.best->genome},
+            {"extras", numbers_or_null(s.best->extras)}};
   Json resume = nullptr;
   if (s.algorithm) resume = {{"algorithm", *s.algorithm}, {"next_batch", or_null(s.next_batch)}};
   out = {{"format", "tessera-inspect"},
-         {"version", 1},
+         {"version", 2},
          {"file", s.file},
+         {"archive_format", s.archive_format},
          {"problem", s.problem},
          {"tool_version", s.tool_version},
          {"seed", s.seed},
          {"evaluations", s.evaluations},
          {"space", space},
          {"genome_size", s.genome_size},
+         {"extra_names", s.extra_names},
          {"elites", s.elites},
          {"coverage", s.coverage},
          {"qd_score", s.qd_score},
-         {"qd_offset", s.qd_offset},
+         {"fitness_floor", s.fitness_floor},
          {"max_fitness", or_null(s.max_fitness)},
          {"best", best},
+         {"novelty_archive", or_null(s.novelty_archive)},
          {"counts",
           {{"invalid", or_null(s.invalid)},
            {"out_of_bounds", or_null(s.out_of_bounds)},

@@ -95,6 +95,12 @@ std::optional<std::string> elites_fault(const ArchiveSnapshot& s) {
   if (s.descriptor.size() != n * d)
     return "/elites/descriptor holds " + str(s.descriptor.size()) + " values, not " + str(n) +
            " x " + str(d) + " (elites x /space/lower)";
+  const std::size_t e = s.extra_size();
+  if (e > kMaxExtraSize)
+    return "/elites/extra_names has more than " + str(kMaxExtraSize) + " names";
+  if (s.extras.size() != n * e)
+    return "/elites/extras holds " + str(s.extras.size()) + " values, not " + str(n) + " x " +
+           str(e) + " (elites x /elites/extra_names)";
   if (auto f = first_non_finite(s.fitness, "/elites/fitness")) return f;
   if (auto f = first_non_finite(s.genome, "/elites/genome", g)) return f;
   if (auto f = first_non_finite(s.descriptor, "/elites/descriptor", d)) return f;
@@ -115,8 +121,30 @@ std::optional<std::string> elites_fault(const ArchiveSnapshot& s) {
   return std::nullopt;
 }
 
+std::optional<std::string> novelty_archive_fault(const ArchiveSnapshot& s) {
+  if (!s.novelty_archive) return std::nullopt;
+  const BehaviourRows& b = *s.novelty_archive;
+  const std::size_t m = b.size();
+  const std::size_t g = s.genome_size();
+  const std::size_t d = s.descriptor_size();
+  if (b.birth.size() != m)
+    return "/novelty_archive/birth has " + str(b.birth.size()) +
+           " rows but /novelty_archive/fitness has " + str(m);
+  if (b.genome.size() != m * g)
+    return "/novelty_archive/genome holds " + str(b.genome.size()) + " values, not " + str(m) +
+           " x " + str(g);
+  if (b.descriptor.size() != m * d)
+    return "/novelty_archive/descriptor holds " + str(b.descriptor.size()) + " values, not " +
+           str(m) + " x " + str(d);
+  if (auto f = first_non_finite(b.fitness, "/novelty_archive/fitness")) return f;
+  if (auto f = first_non_finite(b.genome, "/novelty_archive/genome", g)) return f;
+  if (auto f = first_non_finite(b.descriptor, "/novelty_archive/descriptor", d)) return f;
+  return std::nullopt;
+}
+
 std::optional<std::string> history_fault(const ArchiveSnapshot& s) {
-  if (!std::isfinite(s.qd_offset)) return "/history qd_offset is " + describe(s.qd_offset);
+  if (!std::isfinite(s.fitness_floor))
+    return "/history fitness_floor is " + describe(s.fitness_floor);
   for (std::size_t t = 0; t < s.history.size(); ++t) {
     const HistoryRow& row = s.history[t];
     std::string at = "[";
@@ -147,6 +175,7 @@ std::optional<std::string> snapshot_fault(const ArchiveSnapshot& s) {
     return "/genome has more than " + str(kMaxGenomeSize) + " parameters";
   if (auto f = bounds_fault(s.genome_bounds, "/genome")) return f;
   if (auto f = elites_fault(s)) return f;
+  if (auto f = novelty_archive_fault(s)) return f;
   if (auto f = history_fault(s)) return f;
   if (s.resume) {
     if (s.resume->counters.size() > kMaxResumeEntries ||

@@ -1,7 +1,7 @@
-// Consistency of an ArchiveSnapshot against archive format 1 (DESIGN.md): shapes that must agree,
-// values that must be finite, cells in range and never shared. The writer checks before it
-// touches the disk; the reader checks what it read. Sizes are checked again, before anything is
-// allocated, by the reader itself (archive_file.cpp).
+// Consistency of an ArchiveSnapshot against the archive format (docs/archive-format.md): shapes
+// that must agree, values that must be finite, cells in range and never shared. The writer checks
+// before it touches the disk; the reader checks what it read. Sizes are checked again, before
+// anything is allocated, by the reader itself (archive_file.cpp).
 #pragma once
 
 #include <cstddef>
@@ -20,9 +20,11 @@ inline constexpr std::uint64_t kMaxDescriptorSize = 4096;
 inline constexpr std::uint64_t kMaxHistoryRows = std::uint64_t{1} << 28;
 inline constexpr std::uint64_t kMaxArrayElements = std::uint64_t{1} << 32;  // any one dataset
 inline constexpr std::uint64_t kMaxResumeEntries = 100000;  // counters or arrays in /resume
+inline constexpr std::uint64_t kMaxExtraSize = 65536;       // extra figures per elite
 
-// Returns the first fault found, phrased with format 1 names ("/elites/fitness[3] is NaN"), or
-// nothing when the snapshot is a valid format 1 archive.
+// Returns the first fault found, phrased with the format's names ("/elites/fitness[3] is NaN"),
+// or nothing when the snapshot is a valid archive. Extra figures may be NaN or infinite (not
+// recorded, or not defined for that elite); every other stored value must be finite.
 std::optional<std::string> snapshot_fault(const ArchiveSnapshot& snapshot);
 
 // The same for the /space part alone (kind, bounds, names, resolution or centroids).

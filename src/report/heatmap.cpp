@@ -18,7 +18,8 @@ void keep_max(double& slot, double value) {
   if (std::isnan(slot) || value > slot) slot = value;
 }
 
-// Square of a value along a projected axis: the grid rule of DESIGN.md with `squares` cells.
+// Square of a value along a projected axis: the grid rule of docs/archive-format.md with
+// `squares` cells.
 std::int64_t square_of(double v, double lo, double hi, std::int64_t squares) {
   const double k = std::floor((v - lo) / (hi - lo) * static_cast<double>(squares));
   if (!(k >= 0.0)) return 0;

@@ -88,7 +88,8 @@ std::string summary_table(const ArchiveSummary& s, const std::string& extra_key,
   char pct[32];
   std::snprintf(pct, sizeof pct, "%.2f%%", 100.0 * s.coverage);
   rows.push_back({"coverage", pct});
-  rows.push_back({"QD-score", figure(s.qd_score) + " (offset " + figure(s.qd_offset) + ")"});
+  rows.push_back(
+      {"QD-score", figure(s.qd_score) + " (fitness floor " + figure(s.fitness_floor) + ")"});
   rows.push_back({"max fitness", s.max_fitness ? figure(*s.max_fitness) : "- (no elites)"});
   if (s.best)
     rows.push_back({"best elite", "cell " + std::to_string(s.best->cell) + ", fitness " +

@@ -3,7 +3,7 @@
 over the intact arm's repertoire (Cully, Clune, Tarapore & Mouret, Nature 2015).
 
 Checked against outside references: every measured value equals numpy's forward kinematics of
-the damaged arm (DESIGN.md arm definition; Craig, Introduction to Robotics); the first trial is
+the damaged arm (README.md arm definition; Craig, Introduction to Robotics); the first trial is
 the elite h5py finds closest to the target (the UCB choice when every sigma is equal); the choice
 reaches the target clearly better than that elite, within the trial budget; the trial log reads
 back with h5py; --trial-process (a numpy worker speaking the evaluator protocol) gives the same

@@ -28,7 +28,7 @@ def damaged(name, change):
     with h5py.File(f"{d}/{name}", "r+") as f:
         change(f)
 def newer(f):
-    f.attrs["format_version"] = np.int64(2)
+    f.attrs["format_version"] = np.int64(3)
 def rows(f):
     birth = f["elites/birth"][:-1]
     del f["elites/birth"]
@@ -81,7 +81,7 @@ expect "$dir/folder.h5" "is a directory"
 expect "$dir/text.h5" "not an HDF5 file"
 expect "$dir/empty.h5" "not an HDF5 file"
 expect "$dir/other.h5" "not a tessera archive"
-expect "$dir/newer.h5" "written by a newer tessera (format 2); this one reads format 1"
+expect "$dir/newer.h5" "archive format 3 is newer than this tessera reads (formats 1 to 2)"
 expect "$dir/truncated.h5" "truncated or damaged HDF5 file"
 expect "$dir/rows.h5" "/elites/birth has 49 rows but /elites/fitness has 50"
 expect "$dir/nan.h5" "/elites/fitness[2] is NaN"

@@ -1,7 +1,7 @@
 # h5py (Debian python3-h5py, built on the HDF5 reference library) reads every dataset and
-# attribute of archives Tessera writes, with the types and shapes of archive format 1
-# (DESIGN.md), and the figures of `tessera inspect --format json` equal those computed here
-# from the raw datasets with numpy.
+# attribute of archives Tessera writes, with the types and shapes of archive format 2
+# (docs/archive-format.md), and the figures of `tessera inspect --format json` equal those
+# computed here from the raw datasets with numpy.
 # Archives: a real `tessera illuminate problems/arm.toml` run (small budget), and deterministic
 # grid, CVT, unstructured and empty archives from tests/tools/write_sample_archive.
 # ctest-timeout: 600
@@ -42,12 +42,12 @@ def attr_is_vlen_utf8(obj, name):
 def check_archive(path, label):
     print(f"== {label}: {path}")
     f = h5py.File(path, "r")
-    # Root attributes (format 1).
+    # Root attributes.
     for name in ["format", "problem", "config", "tool_version"]:
         check(name in f.attrs and attr_is_vlen_utf8(f, name), f"{label}: /{name} is a UTF-8 string")
     check(f.attrs["format"] == "tessera-archive", f"{label}: format")
     check(np.issubdtype(f.attrs.get_id("format_version").dtype, np.integer)
-          and int(f.attrs["format_version"]) == 1, f"{label}: format_version is the integer 1")
+          and int(f.attrs["format_version"]) == 2, f"{label}: format_version is the integer 2")
     for name in ["seed", "evaluations"]:
         check(f.attrs.get_id(name).dtype == np.uint64, f"{label}: {name} is uint64")
 
@@ -95,6 +95,14 @@ def check_archive(path, label):
         check(ds.dtype == dtype and ds.shape == shape, f"{label}: /elites/{name} {dtype} {shape}")
         check(ds.chunks is not None and ds.compression == "gzip",
               f"{label}: /elites/{name} chunked and deflate-compressed")
+    # Format 2: every elite's extra figures [N, E] and their names [E].
+    extra_names = elites["extra_names"]
+    check(is_vlen_utf8_string(extra_names.dtype) and extra_names.ndim == 1,
+          f"{label}: /elites/extra_names UTF-8 strings [E]")
+    extra_names = [x.decode("utf-8") for x in extra_names[...]]
+    extras = elites["extras"][...]
+    check(extras.dtype == np.float64 and extras.shape == (n, len(extra_names)),
+          f"{label}: /elites/extras float64 [N, E] {extras.shape}")
     fitness = elites["fitness"][...]
     desc = elites["descriptor"][...]
     gen = elites["genome"][...]
@@ -109,8 +117,10 @@ def check_archive(path, label):
     check(hist["evaluations"].dtype == np.uint64, f"{label}: /history/evaluations uint64")
     for k in ["coverage", "qd_score", "max_fitness"]:
         check(hist[k].dtype == np.float64 and hist[k].shape == (t,), f"{label}: /history/{k}")
-    check(history.attrs.get_id("qd_offset").dtype == np.float64, f"{label}: qd_offset float64")
-    qd_offset = float(history.attrs["qd_offset"])
+    check("qd_offset" not in history.attrs, f"{label}: no format 1 qd_offset")
+    check(history.attrs.get_id("fitness_floor").dtype == np.float64,
+          f"{label}: fitness_floor float64")
+    qd_offset = float(history.attrs["fitness_floor"])
 
     resume = None
     if "resume" in f:
@@ -132,7 +142,9 @@ def check_archive(path, label):
                          text=True)
     check(out.returncode == 0 and out.stderr == "", f"{label}: inspect exits 0 quietly")
     j = json.loads(out.stdout)
-    check(j["format"] == "tessera-inspect" and j["version"] == 1, f"{label}: inspect header")
+    check(j["format"] == "tessera-inspect" and j["version"] == 2, f"{label}: inspect header")
+    check(j["archive_format"] == 2, f"{label}: inspect names the archive format")
+    check(j["extra_names"] == extra_names, f"{label}: inspect extra names")
     check(j["problem"] == f.attrs["problem"], f"{label}: problem")
     check(j["tool_version"] == f.attrs["tool_version"], f"{label}: tool_version")
     check(j["seed"] == int(f.attrs["seed"]), f"{label}: seed")
@@ -145,7 +157,7 @@ def check_archive(path, label):
     check(sp["resolution"] == (res.tolist() if kind == "grid" else None), f"{label}: resolution")
     check(j["genome_size"] == g and j["elites"] == n, f"{label}: genome size, elites")
     check(j["coverage"] == (n / cells if cells else 0.0), f"{label}: coverage")
-    check(j["qd_offset"] == qd_offset, f"{label}: qd_offset")
+    check(j["fitness_floor"] == qd_offset, f"{label}: fitness_floor")
     # Summed in stored order, one IEEE addition at a time, as format 1 defines the QD-score.
     qd = 0.0
     for x in fitness.tolist():
@@ -163,6 +175,8 @@ def check_archive(path, label):
               f"{label}: best elite index/cell/fitness/birth")
         check(best["genome"] == gen[b].tolist() and best["descriptor"] == desc[b].tolist(),
               f"{label}: best elite genome and descriptor")
+        want = [x if math.isfinite(x) else None for x in extras[b].tolist()]
+        check(best["extras"] == want, f"{label}: best elite extras {best['extras']} vs {want}")
     if resume is None:
         check(j["resume"] is None and j["counts"]["invalid"] is None, f"{label}: no resume state")
     else:
@@ -177,8 +191,10 @@ def check_archive(path, label):
     text = subprocess.run([TESSERA, "inspect", path], capture_output=True, text=True)
     check(text.returncode == 0 and f.attrs["problem"] in text.stdout and text.stderr == "",
           f"{label}: inspect text form")
+    check("format 2" in text.stdout, f"{label}: inspect text names the format version")
     return f, dict(kind=kind, lower=lower, upper=upper, cell=cell, desc=desc, gen=gen,
                    fitness=fitness, hist=hist, cells=cells, qd_offset=qd_offset,
+                   extra_names=extra_names, extras=extras,
                    res=res if kind == "grid" else None, glo=glo, gup=gup)
 
 
@@ -194,20 +210,22 @@ with tempfile.TemporaryDirectory(prefix="tessera-h5py-") as tmp:
         f, a = check_archive(archive, "arm run")
         check(f.attrs["problem"] == "arm" and a["kind"] == "grid", "arm: grid archive of arm")
         check("[problem]" in f.attrs["config"], "arm: the resolved run file is stored")
-        # Problem definition (DESIGN.md): genome in [-pi, pi]^n, descriptor in [-1, 1]^2,
-        # lowest fitness -pi^2 (the QD-score offset).
+        # Problem definition (README.md, Shipped problems): genome in [-pi, pi]^n, descriptor in
+        # [-1, 1]^2, lowest fitness -pi^2 (the fitness floor).
         check(np.all(a["glo"] == -math.pi) and np.all(a["gup"] == math.pi), "arm: genome bounds")
         check(a["lower"].tolist() == [-1.0, -1.0] and a["upper"].tolist() == [1.0, 1.0],
               "arm: descriptor bounds")
-        check(a["qd_offset"] == -math.pi ** 2, "arm: qd_offset is -pi^2")
+        check(a["qd_offset"] == -math.pi ** 2, "arm: fitness_floor is -pi^2")
+        check(a["extra_names"] == [] and a["extras"].shape == (len(a["fitness"]), 0),
+              "arm: no extra figures, stored as [N, 0]")
         check(len(a["fitness"]) > 0, "arm: the run found elites")
-        # Each elite lies in its cell: the grid formula of DESIGN.md, written out with numpy.
+        # Each elite lies in its cell: the grid formula of docs/archive-format.md, in numpy.
         k = np.floor((a["desc"] - a["lower"]) / (a["upper"] - a["lower"]) * a["res"])
         k = np.clip(k, 0, a["res"] - 1).astype(np.int64)
         flat = k[:, 0] * a["res"][1] + k[:, 1]
         check(np.array_equal(flat, a["cell"]), "arm: /elites/cell matches the grid formula")
         # The descriptor is the end effector (forward kinematics, Craig, Introduction to
-        # Robotics) and the fitness minus the variance of the angles (DESIGN.md).
+        # Robotics) and the fitness minus the variance of the angles (README.md).
         angles = np.cumsum(a["gen"], axis=1)
         n_j = a["gen"].shape[1]
         effector = np.stack([np.cos(angles).sum(1), np.sin(angles).sum(1)], axis=1) / n_j
@@ -223,8 +241,9 @@ with tempfile.TemporaryDirectory(prefix="tessera-h5py-") as tmp:
         check(h["max_fitness"][-1] == a["fitness"].max(), "arm: last max fitness")
 
     # 2. Deterministic archives of every kind, with and without resume state, and empty.
-    cases = [("grid", ["grid", "500", "13"]), ("cvt", ["cvt", "300", "5"]),
-             ("unstructured", ["unstructured", "200", "3", "7", "0", "--no-resume"]),
+    cases = [("grid", ["grid", "500", "13"]), ("cvt", ["cvt", "300", "5", "--extras=0"]),
+             ("unstructured", ["unstructured", "200", "3", "7", "0", "--no-resume",
+                               "--novelty-archive=31"]),
              ("empty grid", ["grid", "0", "4", "0"]), ("empty cvt", ["cvt", "0", "4", "0"])]
     for label, args in cases:
         path = os.path.join(tmp, label.replace(" ", "_") + ".h5")
@@ -240,6 +259,22 @@ with tempfile.TemporaryDirectory(prefix="tessera-h5py-") as tmp:
                       "grid: negative zero kept")
                 check(a["fitness"][1] == 5e-324, "grid: subnormal kept")
                 check(f["space"]["names"][1].decode() == "höhe", "grid: UTF-8 name")
+                check(a["extra_names"] == ["path_length", "goal_time", "état"],
+                      "grid: extra names as written")
+                x = a["extras"][:, 1]
+                check(np.isnan(x[0]) and x[1] == -np.inf and x[2] == 0.0 and
+                      math.copysign(1, x[2]) < 0 and x[3] == 5e-324 and x[4] == np.inf,
+                      "grid: NaN, infinities, -0 and subnormal extras kept")
+            if label == "unstructured":
+                nov = f["novelty_archive"]
+                m = nov["fitness"].shape[0]
+                check(m == 31 and nov["genome"].shape == (m, a["gen"].shape[1]) and
+                      nov["descriptor"].shape == (m, a["desc"].shape[1]) and
+                      nov["birth"].dtype == np.uint64 and nov["fitness"].dtype == np.float64,
+                      "unstructured: /novelty_archive shapes and types")
+                j = json.loads(subprocess.run([TESSERA, "inspect", "--format", "json", path],
+                                              capture_output=True, text=True).stdout)
+                check(j["novelty_archive"] == 31, "unstructured: inspect counts the novelty archive")
 
 if failures:
     print(f"{len(failures)} checks failed")

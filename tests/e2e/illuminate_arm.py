@@ -14,12 +14,12 @@ out = os.path.join(work, "small")
 proc = run("illuminate", problem("arm.toml"), "--out", out, "-n", 30000, "--quiet")
 assert "coverage" in proc.stdout, proc.stdout
 a = read_archive(os.path.join(out, "archive.h5"))
-assert a["@format"] == "tessera-archive" and a["@format_version"] == 1
+assert a["@format"] == "tessera-archive" and a["@format_version"] == 2
 assert a["@problem"] == "arm" and a["@evaluations"] == 30000
 g = a["elites/genome"]
 n_joints = g.shape[1]
 assert n_joints == 10
-# Planar arm forward kinematics (DESIGN.md; standard robotics, e.g. Craig, Introduction to
+# Planar arm forward kinematics (README.md; standard robotics, e.g. Craig, Introduction to
 # Robotics): p = sum_i (1/n)(cos a_i, sin a_i), a_i = theta_1 + ... + theta_i.
 cum = np.cumsum(g, axis=1)
 p = np.stack([np.cos(cum).sum(axis=1), np.sin(cum).sum(axis=1)], axis=1) / n_joints
@@ -32,7 +32,7 @@ k = np.clip(np.floor((a["elites/descriptor"] - lo) / (hi - lo) * res), 0, res - 
 np.testing.assert_array_equal(a["elites/cell"], k[:, 0] * res[1] + k[:, 1])
 assert len(np.unique(a["elites/cell"])) == len(a["elites/cell"]), "two elites share a cell"
 # QD-score of the last history row = sum(fitness - offset) (Pugh, Soros & Stanley 2016).
-offset = a["history@qd_offset"]
+offset = a["history@fitness_floor"]
 assert abs(offset - (-np.pi ** 2)) < 1e-15
 np.testing.assert_allclose(a["history/qd_score"][-1], np.sum(a["elites/fitness"] - offset), rtol=1e-12)
 np.testing.assert_allclose(a["history/coverage"][-1], len(g) / 10000.0, rtol=0, atol=0)

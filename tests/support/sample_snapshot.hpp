@@ -1,7 +1,7 @@
 // Deterministic archive snapshots for the archive-file tests and the sample writer: every field
-// of format 1 filled with awkward but valid values (negative zero, subnormals, huge magnitudes,
-// UTF-8 names), elites in a scrambled order, so that a reader that sorts, rounds or drops
-// anything is caught.
+// of the format (docs/archive-format.md) filled with awkward but valid values (negative zero,
+// subnormals, huge magnitudes, NaN and infinite extras, UTF-8 names), elites in a scrambled
+// order, so that a reader that sorts, rounds or drops anything is caught.
 #pragma once
 
 #include <cfloat>
@@ -23,6 +23,8 @@ struct SampleOptions {
   std::size_t genome = 7;
   std::size_t history = 12;
   bool resume = true;
+  std::size_t extras = 3;           // extra figures per elite
+  std::size_t novelty_archive = 0;  // rows of /novelty_archive (none when 0)
   std::uint64_t salt = 0;  // different salts give different contents
 };
 
@@ -67,7 +69,26 @@ inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
       s.descriptor.push_back(
           rng.uniform(s.descriptor_bounds.lower[j], s.descriptor_bounds.upper[j]));
   }
-  s.qd_offset = -std::numbers::pi * std::numbers::pi;
+  const char* extra_names[] = {"path_length", "goal_time", "état", "area"};
+  for (std::size_t e = 0; e < o.extras; ++e)
+    s.extra_names.push_back(e < 4 ? extra_names[e] : "extra_" + std::to_string(e));
+  const double extra_specials[] = {NAN, -INFINITY, -0.0, 5e-324, INFINITY};
+  for (std::size_t i = 0; i < o.elites; ++i)
+    for (std::size_t e = 0; e < o.extras; ++e)
+      s.extras.push_back(i < 5 && e == 1 ? extra_specials[i] : rng.uniform(-100.0, 100.0));
+  if (o.novelty_archive > 0) {
+    BehaviourRows b;
+    for (std::size_t i = 0; i < o.novelty_archive; ++i) {
+      b.fitness.push_back(i == 0 ? -0.0 : rng.uniform(-10.0, 0.0));
+      b.birth.push_back(5 * i + 2);
+      for (std::size_t j = 0; j < o.genome; ++j) b.genome.push_back(rng.uniform(-3.0, 3.0));
+      for (std::size_t j = 0; j < d; ++j)
+        b.descriptor.push_back(
+            rng.uniform(s.descriptor_bounds.lower[j], s.descriptor_bounds.upper[j]));
+    }
+    s.novelty_archive = std::move(b);
+  }
+  s.fitness_floor = -std::numbers::pi * std::numbers::pi;
   for (std::size_t t = 0; t < o.history; ++t)
     s.history.push_back(
         {(t + 1) * 64, (t + 1.0) / (o.history + 3.0), 0.5 * t + 1e-17, -1.0 / (t + 1.0)});
@@ -77,7 +98,7 @@ inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
     r.next_batch = 1 + o.salt;
     r.counters = {
         {"invalid", 3}, {"out_of_bounds", 5}, {"failed:timeout", 2}, {"huge", UINT64_MAX}};
-    // Engine state may hold sentinels such as -inf; only the format 1 datasets must be finite.
+    // Engine state may hold sentinels such as -inf; only the result datasets must be finite.
     r.arrays = {{"sigma", {0.5, 0.25, -0.0}}, {"empty", {}}, {"best", {-INFINITY}}};
     s.resume = r;
   }

@@ -1,6 +1,7 @@
 // Writes a deterministic sample archive (tests/support/sample_snapshot.hpp) for the script tests
 // that check files with outside readers (h5py) and `tessera inspect`.
 // Usage: write_sample_archive KIND PATH [ELITES [GENOME [HISTORY [SALT]]]] [--no-resume]
+//        [--extras=E] [--novelty-archive=M]
 #include <cstdlib>
 #include <exception>
 #include <iostream>
@@ -17,12 +18,16 @@ int main(int argc, char** argv) {
     const std::string a = argv[i];
     if (a == "--no-resume")
       o.resume = false;
+    else if (a.rfind("--extras=", 0) == 0)
+      o.extras = std::stoul(a.substr(9));
+    else if (a.rfind("--novelty-archive=", 0) == 0)
+      o.novelty_archive = std::stoul(a.substr(18));
     else
       args.push_back(a);
   }
   if (args.size() < 2 || args.size() > 6) {
     std::cerr << "usage: write_sample_archive KIND PATH [ELITES [GENOME [HISTORY [SALT]]]] "
-                 "[--no-resume]\n";
+                 "[--no-resume] [--extras=E] [--novelty-archive=M]\n";
     return 2;
   }
   o.kind = args[0];

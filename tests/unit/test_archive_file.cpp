@@ -1,4 +1,4 @@
-// Archive files (format 1, DESIGN.md): bit-exact round trips, every bad-file case refused with
+// Archive files (docs/archive-format.md): bit-exact round trips, every bad-file case refused with
 // one line naming the file and the fault, and writes that never damage the previous file.
 // Damaged files are made with the HDF5 C++ library itself (the reference implementation of the
 // format, libhdf5 from Debian).
@@ -16,6 +16,7 @@
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <numbers>
 #include <random>
 #include <set>
 #include <string>
@@ -82,6 +83,15 @@ void require_equal(const ArchiveSnapshot& a, const ArchiveSnapshot& b) {
   CHECK(same_bits(a.descriptor, b.descriptor));
   CHECK(same_bits(a.fitness, b.fitness));
   CHECK(a.birth == b.birth);
+  CHECK(a.extra_names == b.extra_names);
+  CHECK(same_bits(a.extras, b.extras));  // NaN, infinities and -0.0 included
+  REQUIRE(a.novelty_archive.has_value() == b.novelty_archive.has_value());
+  if (a.novelty_archive) {
+    CHECK(same_bits(a.novelty_archive->genome, b.novelty_archive->genome));
+    CHECK(same_bits(a.novelty_archive->descriptor, b.novelty_archive->descriptor));
+    CHECK(same_bits(a.novelty_archive->fitness, b.novelty_archive->fitness));
+    CHECK(a.novelty_archive->birth == b.novelty_archive->birth);
+  }
   REQUIRE(a.history.size() == b.history.size());
   for (std::size_t t = 0; t < a.history.size(); ++t) {
     CHECK(a.history[t].evaluations == b.history[t].evaluations);
@@ -89,7 +99,7 @@ void require_equal(const ArchiveSnapshot& a, const ArchiveSnapshot& b) {
     CHECK(same_bits(a.history[t].qd_score, b.history[t].qd_score));
     CHECK(same_bits(a.history[t].max_fitness, b.history[t].max_fitness));
   }
-  CHECK(same_bits(a.qd_offset, b.qd_offset));
+  CHECK(same_bits(a.fitness_floor, b.fitness_floor));
   REQUIRE(a.resume.has_value() == b.resume.has_value());
   if (a.resume) {
     CHECK(a.resume->algorithm == b.resume->algorithm);
@@ -150,6 +160,8 @@ TEST_CASE("grid, cvt and unstructured archives round-trip bit for bit", "[archiv
         o.kind = kind;
         o.resume = resume;
         o.elites = 137;
+        o.extras = resume ? 3 : 0;  // with and without extra figures
+        o.novelty_archive = resume ? 0 : 23;
         const ArchiveSnapshot original = sample_snapshot(o);
         const std::string path = dir.file(std::string(kind) + ".h5");
         write_archive_file(path, original);
@@ -177,6 +189,60 @@ TEST_CASE("an archive with no elites and no history is written and read", "[arch
     CHECK(back.history.empty());
     require_equal(original, back);
   }
+}
+
+TEST_CASE("format 2 is written: extras, their names and the fitness floor", "[archive_file]") {
+  H5::Exception::dontPrint();
+  TempDir dir;
+  const std::string path = dir.file("a.h5");
+  SampleOptions o;
+  o.elites = 40;
+  o.extras = 4;
+  o.novelty_archive = 9;
+  write_archive_file(path, sample_snapshot(o));
+  H5::H5File file(path, H5F_ACC_RDONLY);
+  std::int64_t version = 0;
+  file.openAttribute("format_version").read(H5::PredType::NATIVE_INT64, &version);
+  CHECK(version == 2);
+  const H5::DataSet extras = file.openDataSet("/elites/extras");
+  CHECK(extras.getDataType() == H5::PredType::IEEE_F64LE);
+  hsize_t dims[2] = {0, 0};
+  REQUIRE(extras.getSpace().getSimpleExtentNdims() == 2);
+  extras.getSpace().getSimpleExtentDims(dims);
+  CHECK(dims[0] == 40);
+  CHECK(dims[1] == 4);
+  const H5::StrType names = file.openDataSet("/elites/extra_names").getStrType();
+  CHECK(names.isVariableStr());
+  CHECK(names.getCset() == H5T_CSET_UTF8);
+  const H5::Group history = file.openGroup("/history");
+  CHECK(history.attrExists("fitness_floor"));
+  CHECK_FALSE(history.attrExists("qd_offset"));
+  CHECK(file.openDataSet("/novelty_archive/genome").getDataType() == H5::PredType::IEEE_F64LE);
+  CHECK(file.openDataSet("/novelty_archive/birth").getDataType() == H5::PredType::STD_U64LE);
+}
+
+TEST_CASE("format 1 files written before format 2 are still read", "[archive_file]") {
+  // Fixtures written by the format 1 writer (tests/fixtures/archives/README.md): an arm run on a
+  // grid and on a CVT, and a novelty-search run in the open arena.
+  const std::string folder = std::string(TESSERA_SOURCE_DIR) + "/tests/fixtures/archives/";
+  for (const char* name : {"format1-arm-grid.h5", "format1-arm-cvt.h5"}) {
+    const ArchiveSnapshot s = read_archive_file(folder + name);
+    CHECK(s.format_version == 1);
+    CHECK(s.problem == "arm");
+    CHECK(s.extra_names.empty());
+    CHECK(s.extras.empty());
+    CHECK_FALSE(s.novelty_archive.has_value());
+    // The arm's lowest fitness, minus the largest variance of angles in [-pi, pi]: -pi^2,
+    // read from the format 1 attribute qd_offset.
+    CHECK(s.fitness_floor == -std::numbers::pi * std::numbers::pi);
+    CHECK(s.elite_count() > 0);
+  }
+  const ArchiveSnapshot novelty = read_archive_file(folder + "format1-arena-novelty.h5");
+  CHECK(novelty.format_version == 1);
+  CHECK(novelty.space_kind == "unstructured");
+  CHECK_FALSE(novelty.novelty_archive.has_value());
+  REQUIRE(novelty.resume.has_value());
+  CHECK(novelty.resume->arrays.count("reference_cell") == 1);
 }
 
 TEST_CASE("the datasets have the format 1 types and are chunked and compressed", "[archive_file]") {
@@ -323,10 +389,10 @@ TEST_CASE("bad files are refused with one line naming the file and the fault", "
     const std::string path = copy_of_valid("newer.h5");
     {
       H5::H5File file(path, H5F_ACC_RDWR);
-      const std::int64_t two = 2;
-      file.openAttribute("format_version").write(H5::PredType::NATIVE_INT64, &two);
+      const std::int64_t three = 3;
+      file.openAttribute("format_version").write(H5::PredType::NATIVE_INT64, &three);
     }
-    require_refused(path, "written by a newer tessera (format 2); this one reads format 1");
+    require_refused(path, "archive format 3 is newer than this tessera reads (formats 1 to 2)");
   }
 
   SECTION("a truncated file") {

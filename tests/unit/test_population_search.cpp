@@ -68,6 +68,7 @@ ArchiveSnapshot saved(const Run& r) {
   ArchiveSnapshot s;
   r.search->save(s);
   s.problem = r.problem->info().name;
+  s.extra_names = r.problem->info().extra_names;
   return s;
 }
 
@@ -78,6 +79,14 @@ void require_same(const ArchiveSnapshot& a, const ArchiveSnapshot& b) {
   REQUIRE(a.genome == b.genome);
   REQUIRE(a.descriptor == b.descriptor);
   REQUIRE(a.birth == b.birth);
+  REQUIRE(a.extras.size() == b.extras.size());
+  REQUIRE(std::equal(a.extras.begin(), a.extras.end(), b.extras.begin(),
+                     [](double x, double y) { return x == y || (x != x && y != y); }));
+  REQUIRE(a.novelty_archive.has_value());
+  REQUIRE(b.novelty_archive.has_value());
+  REQUIRE(a.novelty_archive->fitness == b.novelty_archive->fitness);
+  REQUIRE(a.novelty_archive->genome == b.novelty_archive->genome);
+  REQUIRE(a.novelty_archive->birth == b.novelty_archive->birth);
   REQUIRE(a.history.size() == b.history.size());
   for (std::size_t i = 0; i < a.history.size(); ++i) {
     REQUIRE(a.history[i].evaluations == b.history[i].evaluations);
@@ -198,6 +207,45 @@ TEST_CASE("bit-identical for 1 and 2 threads, every algorithm, and on the arena"
   CHECK(saved(other).fitness != one.fitness);
 }
 
+TEST_CASE("the saved elites are the reference map, with the novelty archive beside them") {
+  auto run = make_run(arena_problem(), PopulationAlgorithm::novelty, 2, 600);
+  finish(run);
+  const ArchiveSnapshot s = saved(run);
+  const EliteArchive& map = run.search->reference();
+  REQUIRE(s.space_kind == "grid");
+  REQUIRE(s.elite_count() == map.size());
+  const std::size_t g = s.genome_size(), d = s.descriptor_size(), e = s.extra_size();
+  REQUIRE(e == run.problem->info().extra_names.size());
+  REQUIRE(e > 0);
+  for (std::size_t i = 0; i < map.size(); ++i) {
+    CHECK(s.cell[i] == map.cell(i));
+    CHECK(s.fitness[i] == map.fitness(i));
+    CHECK(std::equal(map.genome(i).begin(), map.genome(i).end(), s.genome.begin() + i * g));
+    CHECK(std::equal(map.descriptor(i).begin(), map.descriptor(i).end(),
+                     s.descriptor.begin() + i * d));
+  }
+  // Coverage and QD-score of /elites are those of the run's own last history row.
+  double qd = 0.0;
+  for (double f : s.fitness) qd += f - s.fitness_floor;
+  CHECK(qd == s.history.back().qd_score);
+  CHECK(static_cast<double>(s.elite_count()) / 256.0 == s.history.back().coverage);
+  // Each elite's stored extras are those its genome evaluates to (the arena is deterministic).
+  Batch batch;
+  batch.resize(s.elite_count(), g, d, e);
+  std::copy(s.genome.begin(), s.genome.end(), batch.genomes.begin());
+  run.evaluator->evaluate(batch);
+  CHECK(batch.extras == s.extras);
+  CHECK(batch.fitness == s.fitness);
+  // The novelty archive, row for row.
+  const NoveltyArchive& behaviours = run.search->behaviours();
+  REQUIRE(s.novelty_archive.has_value());
+  REQUIRE(s.novelty_archive->size() == behaviours.size());
+  for (std::size_t i = 0; i < behaviours.size(); ++i) {
+    CHECK(s.novelty_archive->fitness[i] == behaviours.fitness(i));
+    CHECK(s.novelty_archive->birth[i] == behaviours.birth(i));
+  }
+}
+
 TEST_CASE("stop, write the archive file, read it, restore, continue: identical to one go") {
   namespace fs = std::filesystem;
   const fs::path dir = fs::temp_directory_path() / ("tessera-pop-" + std::to_string(::getpid()));
@@ -213,7 +261,7 @@ TEST_CASE("stop, write the archive file, read it, restore, continue: identical t
     const std::string path = (dir / "half.h5").string();
     write_archive_file(path, saved(first));
     const ArchiveSnapshot half = read_archive_file(path);
-    REQUIRE(half.space_kind == "unstructured");
+    REQUIRE(half.space_kind == "grid");  // the reference map is the archive's elites
 
     auto second = make_run(problem(), algorithm, 2, budget);
     second.search->restore(half);

@@ -17,9 +17,10 @@ const char* to_string(Insertion outcome) {
   return "?";
 }
 
-EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::size_t genome_size)
+EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::size_t genome_size,
+                           std::size_t extra_size)
     : space_(std::move(space)), genome_size_(genome_size),
-      descriptor_size_(space_->dimensions()) {
+      descriptor_size_(space_->dimensions()), extra_size_(extra_size) {
   if (space_->cell_count() > kMaxCells)
     throw std::invalid_argument("archive: more than 2^28 cells");
   slot_of_cell_.assign(static_cast<std::size_t>(space_->cell_count()), -1);
@@ -27,7 +28,8 @@ EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::si
 
 InsertResult EliteArchive::insert(std::span<const double> genome, double fitness,
                                   std::span<const double> descriptor, std::uint64_t birth,
-                                  bool valid) {
+                                  bool valid, std::span<const double> extras) {
+  check_extras(extras);
   InsertResult result;
   bool finite = valid && std::isfinite(fitness);
   for (double d : descriptor) finite = finite && std::isfinite(d);
@@ -49,6 +51,8 @@ InsertResult EliteArchive::insert(std::span<const double> genome, double fitness
     birth_.push_back(birth);
     genomes_.insert(genomes_.end(), genome.begin(), genome.end());
     descriptors_.insert(descriptors_.end(), descriptor.begin(), descriptor.end());
+    extras_.resize(extras_.size() + extra_size_);
+    store_extras(index, extras);
     result.outcome = Insertion::new_cell;
   } else {
     index = static_cast<std::size_t>(slot);
@@ -62,6 +66,7 @@ InsertResult EliteArchive::insert(std::span<const double> genome, double fitness
     std::copy(genome.begin(), genome.end(), genomes_.begin() + index * genome_size_);
     std::copy(descriptor.begin(), descriptor.end(),
               descriptors_.begin() + index * descriptor_size_);
+    store_extras(index, extras);
     result.outcome = Insertion::improved;
   }
   // An elite's descriptor always lies in its cell: out-of-bounds values are stored clamped.
@@ -71,12 +76,14 @@ InsertResult EliteArchive::insert(std::span<const double> genome, double fitness
 }
 
 void EliteArchive::restore(std::int64_t cell, std::span<const double> genome, double fitness,
-                           std::span<const double> descriptor, std::uint64_t birth) {
+                           std::span<const double> descriptor, std::uint64_t birth,
+                           std::span<const double> extras) {
   if (cell < 0 || cell >= space_->cell_count())
     throw std::invalid_argument("elite cell " + std::to_string(cell) + " outside 0.." +
                                 std::to_string(space_->cell_count() - 1));
   if (genome.size() != genome_size_ || descriptor.size() != descriptor_size_)
     throw std::invalid_argument("elite genome or descriptor has the wrong length");
+  check_extras(extras);
   auto& slot = slot_of_cell_[static_cast<std::size_t>(cell)];
   if (slot >= 0) throw std::invalid_argument("two elites in cell " + std::to_string(cell));
   slot = static_cast<std::int32_t>(cells_.size());
@@ -85,6 +92,22 @@ void EliteArchive::restore(std::int64_t cell, std::span<const double> genome, do
   birth_.push_back(birth);
   genomes_.insert(genomes_.end(), genome.begin(), genome.end());
   descriptors_.insert(descriptors_.end(), descriptor.begin(), descriptor.end());
+  extras_.resize(extras_.size() + extra_size_);
+  store_extras(cells_.size() - 1, extras);
+}
+
+void EliteArchive::check_extras(std::span<const double> extras) const {
+  if (!extras.empty() && extras.size() != extra_size_)
+    throw std::invalid_argument("elite has " + std::to_string(extras.size()) +
+                                " extra figures, expected " + std::to_string(extra_size_));
+}
+
+void EliteArchive::store_extras(std::size_t index, std::span<const double> extras) {
+  const auto out = extras_.begin() + static_cast<std::ptrdiff_t>(index * extra_size_);
+  if (extras.empty())
+    std::fill_n(out, extra_size_, std::numeric_limits<double>::quiet_NaN());
+  else
+    std::copy(extras.begin(), extras.end(), out);
 }
 
 std::optional<std::size_t> EliteArchive::elite_in(std::int64_t cell) const {

@@ -33,21 +33,29 @@ struct InsertResult {
 // (uniform parent selection indexes into it), so it is saved and restored with the archive.
 class EliteArchive {
  public:
-  EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::size_t genome_size);
+  // Every elite keeps `extra_size` extra figures of its evaluation (path length, reason codes,
+  // ...), so that nothing has to be re-evaluated to recover them.
+  EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::size_t genome_size,
+               std::size_t extra_size = 0);
 
-  // The one insertion path for every space kind.
+  // The one insertion path for every space kind. `extras` holds extra_size() values, or none
+  // (then the elite's extras are NaN: not recorded).
   InsertResult insert(std::span<const double> genome, double fitness,
-                      std::span<const double> descriptor, std::uint64_t birth, bool valid = true);
+                      std::span<const double> descriptor, std::uint64_t birth, bool valid = true,
+                      std::span<const double> extras = {});
 
   // Puts an elite back exactly as saved (used when reading an archive file). Throws
-  // std::invalid_argument if the cell is out of range or already filled.
+  // std::invalid_argument if the cell is out of range or already filled. Empty `extras` are
+  // stored as NaN (an archive written before elites kept their figures).
   void restore(std::int64_t cell, std::span<const double> genome, double fitness,
-               std::span<const double> descriptor, std::uint64_t birth);
+               std::span<const double> descriptor, std::uint64_t birth,
+               std::span<const double> extras = {});
 
   const DescriptorSpace& space() const { return *space_; }
   std::shared_ptr<const DescriptorSpace> space_ptr() const { return space_; }
   std::size_t genome_size() const { return genome_size_; }
   std::size_t descriptor_size() const { return descriptor_size_; }
+  std::size_t extra_size() const { return extra_size_; }
 
   std::size_t size() const { return cells_.size(); }
   bool empty() const { return cells_.empty(); }
@@ -59,6 +67,9 @@ class EliteArchive {
   }
   std::span<const double> descriptor(std::size_t i) const {
     return {descriptors_.data() + i * descriptor_size_, descriptor_size_};
+  }
+  std::span<const double> extras(std::size_t i) const {
+    return {extras_.data() + i * extra_size_, extra_size_};
   }
   // Index of the elite in `cell`, if any.
   std::optional<std::size_t> elite_in(std::int64_t cell) const;
@@ -72,12 +83,17 @@ class EliteArchive {
   std::shared_ptr<const DescriptorSpace> space_;
   std::size_t genome_size_;
   std::size_t descriptor_size_;
+  std::size_t extra_size_;
   std::vector<std::int32_t> slot_of_cell_;  // -1 = empty
   std::vector<std::int64_t> cells_;
   std::vector<double> fitness_;
   std::vector<std::uint64_t> birth_;
   std::vector<double> genomes_;
   std::vector<double> descriptors_;
+  std::vector<double> extras_;
+
+  void check_extras(std::span<const double> extras) const;  // none or extra_size() values
+  void store_extras(std::size_t index, std::span<const double> extras);
 };
 
 }  // namespace tessera

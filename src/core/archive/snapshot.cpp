@@ -2,6 +2,12 @@
 
 namespace tessera {
 
+std::optional<std::size_t> ArchiveSnapshot::extra_index(const std::string& name) const {
+  for (std::size_t e = 0; e < extra_names.size(); ++e)
+    if (extra_names[e] == name) return e;
+  return std::nullopt;
+}
+
 std::int64_t ArchiveSnapshot::cell_count() const {
   if (space_kind == "grid") {
     std::int64_t cells = 1;

@@ -41,6 +41,9 @@ struct Batch {
   std::span<const double> descriptor(std::size_t i) const {
     return {descriptors.data() + i * descriptor_size, descriptor_size};
   }
+  std::span<const double> extra(std::size_t i) const {
+    return {extras.data() + i * extra_size, extra_size};
+  }
 };
 
 // One row of /history: figures after a batch.

@@ -14,7 +14,7 @@ MapElitesSearch::MapElitesSearch(SearchSettings settings,
                                  double qd_offset, std::unique_ptr<Emitter> emitter,
                                  EvaluateFn evaluate, std::size_t extra_size)
     : settings_(settings),
-      archive_(std::move(space), genome_bounds.size()),
+      archive_(std::move(space), genome_bounds.size(), extra_size),
       genome_bounds_(std::move(genome_bounds)),
       qd_offset_(qd_offset),
       emitter_(std::move(emitter)),
@@ -79,28 +79,49 @@ std::shared_ptr<const DescriptorSpace> space_from_snapshot(const ArchiveSnapshot
   throw std::invalid_argument("space kind '" + in.space_kind + "' is not a grid or a CVT");
 }
 
-void MapElitesSearch::save(ArchiveSnapshot& out) const {
-  save_space(archive_.space(), out);
-  out.genome_bounds = genome_bounds_;
-  out.seed = settings_.seed;
-  out.evaluations = counters_.evaluations;
-  const std::size_t n = archive_.size();
+void save_elites(const EliteArchive& archive, ArchiveSnapshot& out) {
+  save_space(archive.space(), out);
+  const std::size_t n = archive.size();
+  const std::size_t g = archive.genome_size();
+  const std::size_t d = archive.descriptor_size();
+  const std::size_t e = archive.extra_size();
   out.cell.resize(n);
   out.fitness.resize(n);
   out.birth.resize(n);
-  out.genome.resize(n * archive_.genome_size());
-  out.descriptor.resize(n * archive_.descriptor_size());
+  out.genome.resize(n * g);
+  out.descriptor.resize(n * d);
+  out.extras.resize(n * e);
   for (std::size_t i = 0; i < n; ++i) {
-    out.cell[i] = archive_.cell(i);
-    out.fitness[i] = archive_.fitness(i);
-    out.birth[i] = archive_.birth(i);
-    std::copy_n(archive_.genome(i).data(), archive_.genome_size(),
-                out.genome.begin() + i * archive_.genome_size());
-    std::copy_n(archive_.descriptor(i).data(), archive_.descriptor_size(),
-                out.descriptor.begin() + i * archive_.descriptor_size());
+    out.cell[i] = archive.cell(i);
+    out.fitness[i] = archive.fitness(i);
+    out.birth[i] = archive.birth(i);
+    std::copy_n(archive.genome(i).data(), g, out.genome.begin() + i * g);
+    std::copy_n(archive.descriptor(i).data(), d, out.descriptor.begin() + i * d);
+    std::copy_n(archive.extras(i).data(), e, out.extras.begin() + i * e);
   }
+}
+
+void restore_elites(const ArchiveSnapshot& in, EliteArchive& archive) {
+  const std::size_t g = archive.genome_size();
+  const std::size_t d = archive.descriptor_size();
+  // Elites of a file without extras (format 1) keep NaN: not recorded.
+  const std::size_t e = in.extra_size() == archive.extra_size() ? in.extra_size() : 0;
+  if (in.extra_size() != 0 && e == 0)
+    throw std::invalid_argument("the archive's elites have " + std::to_string(in.extra_size()) +
+                                " extra figures but the problem gives " +
+                                std::to_string(archive.extra_size()));
+  for (std::size_t i = 0; i < in.elite_count(); ++i)
+    archive.restore(in.cell[i], {in.genome.data() + i * g, g}, in.fitness[i],
+                    {in.descriptor.data() + i * d, d}, in.birth[i], {in.extras.data() + i * e, e});
+}
+
+void MapElitesSearch::save(ArchiveSnapshot& out) const {
+  save_elites(archive_, out);
+  out.genome_bounds = genome_bounds_;
+  out.seed = settings_.seed;
+  out.evaluations = counters_.evaluations;
   out.history = history_;
-  out.qd_offset = qd_offset_;
+  out.fitness_floor = qd_offset_;
   ResumeState state;
   state.algorithm = name();
   state.next_batch = next_batch_;
@@ -120,11 +141,7 @@ void MapElitesSearch::restore(const ArchiveSnapshot& in) {
     throw std::invalid_argument("genome or descriptor size differs from the problem's");
   if (!archive_.empty() || counters_.evaluations != 0)
     throw std::invalid_argument("restore into a search that has already run");
-  const std::size_t g = archive_.genome_size();
-  const std::size_t d = archive_.descriptor_size();
-  for (std::size_t i = 0; i < in.elite_count(); ++i)
-    archive_.restore(in.cell[i], {in.genome.data() + i * g, g}, in.fitness[i],
-                     {in.descriptor.data() + i * d, d}, in.birth[i]);
+  restore_elites(in, archive_);
   history_ = in.history;
   counters_ = load_counters(*in.resume, in.evaluations);
   next_batch_ = in.resume->next_batch;

@@ -51,6 +51,12 @@ class MapElitesSearch final : public SearchAlgorithm {
 
 // Fills the /space part of a snapshot from a space (grid or cvt).
 void save_space(const DescriptorSpace& space, ArchiveSnapshot& out);
+// Writes an elite archive into the /space and /elites parts of a snapshot (extras included;
+// their names are the caller's).
+void save_elites(const EliteArchive& archive, ArchiveSnapshot& out);
+// Puts a snapshot's elites into an empty archive over the same space; throws
+// std::invalid_argument when they do not fit.
+void restore_elites(const ArchiveSnapshot& in, EliteArchive& archive);
 // Builds the space a snapshot describes (grid or cvt); throws std::invalid_argument.
 std::shared_ptr<const DescriptorSpace> space_from_snapshot(const ArchiveSnapshot& in);
 

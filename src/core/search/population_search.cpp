@@ -10,6 +10,7 @@
 #include <stdexcept>
 
 #include "core/base/rng.hpp"
+#include "core/search/map_elites.hpp"
 #include "core/search/variation.hpp"
 
 namespace tessera {
@@ -106,7 +107,7 @@ PopulationSearch::PopulationSearch(PopulationAlgorithm algorithm, SearchSettings
       evaluate_(std::move(evaluate)),
       extra_size_(extra_size),
       archive_(reference->bounds(), genome_bounds_.size(), population.novelty),
-      reference_(std::move(reference), genome_bounds_.size()),
+      reference_(std::move(reference), genome_bounds_.size(), extra_size),
       max_fitness_(kMinusInf) {
   if (settings_.batch == 0) throw std::invalid_argument("batch size must be at least 1");
   if (population_settings_.tournament == 0)
@@ -288,32 +289,29 @@ SearchFigures PopulationSearch::figures() const {
 }
 
 void PopulationSearch::save(ArchiveSnapshot& out) const {
-  const DescriptorSpace& space = reference_.space();
+  // The reference map is what every command reads as the run's elites: the best behaviour found
+  // per cell, exactly as MAP-Elites keeps it.
+  save_elites(reference_, out);
   const std::size_t g = genome_bounds_.size();
   const std::size_t d = archive_.descriptor_size();
-  out.space_kind = "unstructured";
-  out.descriptor_bounds = space.bounds();
-  out.descriptor_names = space.names();
-  out.resolution.clear();
-  out.centroids.clear();
   out.genome_bounds = genome_bounds_;
   out.seed = settings_.seed;
   out.evaluations = counters_.evaluations;
+  BehaviourRows behaviours;
   const std::size_t n = archive_.size();
-  out.cell.resize(n);
-  out.fitness.resize(n);
-  out.birth.resize(n);
-  out.genome.resize(n * g);
-  out.descriptor.resize(n * d);
+  behaviours.fitness.resize(n);
+  behaviours.birth.resize(n);
+  behaviours.genome.resize(n * g);
+  behaviours.descriptor.resize(n * d);
   for (std::size_t i = 0; i < n; ++i) {
-    out.cell[i] = static_cast<std::int64_t>(i);
-    out.fitness[i] = archive_.fitness(i);
-    out.birth[i] = archive_.birth(i);
-    std::copy_n(archive_.genome(i).data(), g, out.genome.begin() + i * g);
-    std::copy_n(archive_.descriptor(i).data(), d, out.descriptor.begin() + i * d);
+    behaviours.fitness[i] = archive_.fitness(i);
+    behaviours.birth[i] = archive_.birth(i);
+    std::copy_n(archive_.genome(i).data(), g, behaviours.genome.begin() + i * g);
+    std::copy_n(archive_.descriptor(i).data(), d, behaviours.descriptor.begin() + i * d);
   }
+  out.novelty_archive = std::move(behaviours);
   out.history = history_;
-  out.qd_offset = qd_offset_;
+  out.fitness_floor = qd_offset_;
 
   ResumeState state;
   state.algorithm = name();
@@ -332,23 +330,29 @@ void PopulationSearch::save(ArchiveSnapshot& out) const {
   a["population_competition"] = population_.competition;
   a["population_rank"] = population_.rank;
   a["population_crowding"] = population_.crowding;
-  // The reference archive (cells, then rows as the archive holds them).
-  const std::size_t m = reference_.size();
-  auto& cells = a["reference_cell"];
-  auto& fitness = a["reference_fitness"];
-  auto& birth = a["reference_birth"];
-  auto& genome = a["reference_genome"];
-  auto& descriptor = a["reference_descriptor"];
-  for (std::size_t i = 0; i < m; ++i) {
-    cells.push_back(static_cast<double>(reference_.cell(i)));
-    fitness.push_back(reference_.fitness(i));
-    birth.push_back(static_cast<double>(reference_.birth(i)));
-    genome.insert(genome.end(), reference_.genome(i).begin(), reference_.genome(i).end());
-    descriptor.insert(descriptor.end(), reference_.descriptor(i).begin(),
-                      reference_.descriptor(i).end());
-  }
-  a["reference_cells"] = {static_cast<double>(space.cell_count())};
   out.resume = state;
+}
+
+// Format 1 kept the novelty archive as unstructured /elites and the reference map in
+// /resume/arrays/reference_*.
+void PopulationSearch::restore_format1(const ArchiveSnapshot& in) {
+  const ResumeState& state = *in.resume;
+  const std::size_t g = genome_bounds_.size();
+  const std::size_t d = archive_.descriptor_size();
+  if (array(state, "reference_cells", 1)[0] != static_cast<double>(reference_.space().cell_count()))
+    throw std::invalid_argument("the reference space differs from the one the run used");
+  for (std::size_t i = 0; i < in.elite_count(); ++i)
+    archive_.add({in.genome.data() + i * g, g}, {in.descriptor.data() + i * d, d}, in.fitness[i],
+                 in.birth[i]);
+  const std::size_t m = count_of(state, "reference_cell", 1);
+  const auto& cells = array(state, "reference_cell", m);
+  const auto& fitness = array(state, "reference_fitness", m);
+  const auto& birth = array(state, "reference_birth", m);
+  const auto& genome = array(state, "reference_genome", m * g);
+  const auto& descriptor = array(state, "reference_descriptor", m * d);
+  for (std::size_t i = 0; i < m; ++i)
+    reference_.restore(static_cast<std::int64_t>(cells[i]), {genome.data() + i * g, g}, fitness[i],
+                       {descriptor.data() + i * d, d}, static_cast<std::uint64_t>(birth[i]));
 }
 
 void PopulationSearch::restore(const ArchiveSnapshot& in) {
@@ -356,20 +360,25 @@ void PopulationSearch::restore(const ArchiveSnapshot& in) {
   const ResumeState& state = *in.resume;
   if (state.algorithm != name())
     throw std::invalid_argument("the archive was made by '" + state.algorithm + "', not " + name());
-  if (in.space_kind != "unstructured")
-    throw std::invalid_argument("a " + name() + " archive must have an unstructured space");
   const std::size_t g = genome_bounds_.size();
   const std::size_t d = archive_.descriptor_size();
   if (in.genome_size() != g || in.descriptor_size() != d)
     throw std::invalid_argument("genome or descriptor size differs from the problem's");
   if (archive_.size() != 0 || counters_.evaluations != 0)
     throw std::invalid_argument("restore into a search that has already run");
-  if (array(state, "reference_cells", 1)[0] != static_cast<double>(reference_.space().cell_count()))
-    throw std::invalid_argument("the reference space differs from the one the run used");
 
-  for (std::size_t i = 0; i < in.elite_count(); ++i)
-    archive_.add({in.genome.data() + i * g, g}, {in.descriptor.data() + i * d, d}, in.fitness[i],
-                 in.birth[i]);
+  if (in.space_kind == "unstructured") {
+    restore_format1(in);
+  } else {
+    if (in.cell_count() != reference_.space().cell_count())
+      throw std::invalid_argument("the reference space differs from the one the run used");
+    if (!in.novelty_archive) throw std::invalid_argument("the archive holds no novelty archive");
+    restore_elites(in, reference_);
+    const BehaviourRows& b = *in.novelty_archive;
+    for (std::size_t i = 0; i < b.size(); ++i)
+      archive_.add({b.genome.data() + i * g, g}, {b.descriptor.data() + i * d, d}, b.fitness[i],
+                   b.birth[i]);
+  }
   const auto& t = array(state, "novelty_threshold", 3);
   archive_.set_state(t[0], static_cast<std::uint64_t>(t[1]), static_cast<std::uint64_t>(t[2]));
 
@@ -382,16 +391,6 @@ void PopulationSearch::restore(const ArchiveSnapshot& in) {
   population_.competition = array(state, "population_competition", p);
   population_.rank = array(state, "population_rank", p);
   population_.crowding = array(state, "population_crowding", p);
-
-  const std::size_t m = count_of(state, "reference_cell", 1);
-  const auto& cells = array(state, "reference_cell", m);
-  const auto& fitness = array(state, "reference_fitness", m);
-  const auto& birth = array(state, "reference_birth", m);
-  const auto& genome = array(state, "reference_genome", m * g);
-  const auto& descriptor = array(state, "reference_descriptor", m * d);
-  for (std::size_t i = 0; i < m; ++i)
-    reference_.restore(static_cast<std::int64_t>(cells[i]), {genome.data() + i * g, g}, fitness[i],
-                       {descriptor.data() + i * d, d}, static_cast<std::uint64_t>(birth[i]));
 
   history_ = in.history;
   counters_ = load_counters(state, in.evaluations);

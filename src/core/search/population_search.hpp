@@ -9,10 +9,11 @@
 // population), except novelty-lc, which keeps the best `batch` of parents and children as
 // NSGA-II does.
 //
-// Every algorithm keeps the same novelty archive (for objective and random it only watches), so
-// all four write comparable unstructured archives. Every evaluation is also offered to a
-// MAP-Elites archive over the run's reference space (its [space] grid or CVT), which only
-// measures: the history's coverage, QD-score and max fitness are comparable with MAP-Elites runs.
+// Every algorithm keeps the same novelty archive (for objective and random it only watches).
+// Every evaluation is also offered to a MAP-Elites archive over the run's reference space (its
+// [space] grid or CVT), which only measures: the history's coverage, QD-score and max fitness
+// are comparable with MAP-Elites runs. That reference map is saved as the archive's elites (the
+// best behaviour found per cell), the novelty archive beside it (docs/archive-format.md).
 //
 // Random streams are keyed by (seed, batch, candidate), scoring depends only on the point set and
 // archive updates are serial, so runs are bit-identical for any thread count and resume exactly.
@@ -86,6 +87,7 @@ class PopulationSearch final : public SearchAlgorithm {
   std::size_t tournament(Rng& rng) const;
   bool better(std::size_t a, std::size_t b) const;
   void score(Group& pool);
+  void restore_format1(const ArchiveSnapshot& in);
 
   PopulationAlgorithm algorithm_;
   SearchSettings settings_;

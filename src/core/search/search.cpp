@@ -8,7 +8,7 @@ InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::siz
                              std::uint64_t birth, double qd_offset, SearchCounters& counters,
                              double& qd_score, double& max_fitness) {
   const InsertResult r = archive.insert(batch.genome(j), batch.fitness[j], batch.descriptor(j),
-                                        birth, batch.valid[j] != 0);
+                                        birth, batch.valid[j] != 0, batch.extra(j));
   switch (r.outcome) {
     case Insertion::new_cell:
       ++counters.new_cells;

@@ -98,7 +98,9 @@ std::vector<std::size_t> non_dominated(std::span<const double> values,
 }
 
 double objective_value(const ArchiveSnapshot& s, std::size_t elite, const Objective& o) {
-  return o.fitness ? s.fitness[elite] : s.descriptor[elite * s.descriptor_size() + o.dimension];
+  if (o.fitness) return s.fitness[elite];
+  if (o.extra) return s.extra(elite, o.dimension);
+  return s.descriptor[elite * s.descriptor_size() + o.dimension];
 }
 
 std::vector<std::size_t> elite_front(const ArchiveSnapshot& s, std::span<const std::size_t> rows,

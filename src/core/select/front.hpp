@@ -19,10 +19,12 @@ enum class Goal { minimize, maximize };
 // f rows (a dominating row always sorts before the rows it dominates, so one pass suffices).
 std::vector<std::size_t> non_dominated(std::span<const double> values, std::span<const Goal> goals);
 
-// An objective read from an elite: its fitness or one descriptor value.
+// An objective read from an elite: its fitness, one descriptor value, or one of its stored extra
+// figures (`extra`).
 struct Objective {
   bool fitness = true;
-  std::size_t dimension = 0;  // when !fitness
+  std::size_t dimension = 0;  // when !fitness: descriptor dimension, or extra figure index
+  bool extra = false;
   Goal goal = Goal::maximize;
 };
 

@@ -16,7 +16,7 @@ bool EliteFilter::accepts(const ArchiveSnapshot& s, std::size_t elite) const {
   if (min_fitness && !(s.fitness[elite] >= *min_fitness)) return false;
   const std::size_t d = s.descriptor_size();
   for (const auto& w : within) {
-    const double v = s.descriptor[elite * d + w.dimension];
+    const double v = w.extra ? s.extra(elite, w.dimension) : s.descriptor[elite * d + w.dimension];
     if (!(v >= w.lower && v <= w.upper)) return false;
   }
   return true;
@@ -126,7 +126,8 @@ NearestElites::NearestElites(std::span<const double> descriptors, const Bounds& 
     for (std::size_t i = 0; i < dims_; ++i)
       points_[r * dims_ + i] = (descriptors[rows_[r] * dims_ + i] - lower_[i]) / width_[i];
   }
-  if (!rows_.empty()) tree_ = make_tree_for_dimension<TreeOf, Tree>({points_.data(), rows_.size(), dims_});
+  if (!rows_.empty())
+    tree_ = make_tree_for_dimension<TreeOf, Tree>({points_.data(), rows_.size(), dims_});
 }
 
 NearestElites::NearestElites(const ArchiveSnapshot& snapshot, const EliteFilter& filter)

@@ -18,9 +18,11 @@
 
 namespace tessera {
 
-// lower <= descriptor[dimension] <= upper (closed interval).
+// lower <= descriptor[dimension] <= upper (closed interval); with `extra`, the elite's stored
+// extra figure number `dimension` instead (NaN, not recorded, is never inside).
 struct DescriptorInterval {
   std::size_t dimension = 0;
+  bool extra = false;
   double lower = 0.0;
   double upper = 0.0;
 };
