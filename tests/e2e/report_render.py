@@ -170,6 +170,8 @@ with tempfile.TemporaryDirectory() as tmp:
         elites["descriptor"] = centroids[keep]
         elites["fitness"] = -np.arange(len(keep), dtype=float)
         elites["birth"] = np.arange(len(keep), dtype=np.uint64)
+        elites["extras"] = np.zeros((len(keep), 0))  # format 2: no extra figures
+        elites.create_dataset("extra_names", shape=(0,), dtype=h5py.string_dtype("utf-8"))
     report = os.path.join(tmp, "three-report")
     run("report", three, "--out", report, "--axes", "width,speed")
     check_report(report, tmp, "three")
