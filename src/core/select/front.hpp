@@ -24,8 +24,8 @@ std::vector<std::size_t> non_dominated(std::span<const double> values, std::span
 struct Objective {
   bool fitness = true;
   std::size_t dimension = 0;  // when !fitness: descriptor dimension, or extra figure index
-  bool extra = false;
   Goal goal = Goal::maximize;
+  bool extra = false;
 };
 
 double objective_value(const ArchiveSnapshot& snapshot, std::size_t elite,

@@ -22,9 +22,9 @@ namespace tessera {
 // extra figure number `dimension` instead (NaN, not recorded, is never inside).
 struct DescriptorInterval {
   std::size_t dimension = 0;
-  bool extra = false;
   double lower = 0.0;
   double upper = 0.0;
+  bool extra = false;
 };
 
 // All conditions must hold. An empty filter accepts every elite.
