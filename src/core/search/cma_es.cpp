@@ -136,11 +136,15 @@ void CmaEs::tell(std::span<const std::span<const double>> ranked, const CmaConst
   Eigen::VectorXd yw = Eigen::VectorXd::Zero(n);
   for (std::size_t i = 0; i < k.lambda; ++i)
     if (k.weights[i] > 0.0) yw += k.weights[i] * Y.col(static_cast<Index>(i));
-  // C^{-1/2} = B D^{-1} B^T from the current (possibly lazily kept) decomposition.
-  const Eigen::MatrixXd inv_sqrt = B_ * D_.cwiseInverse().asDiagonal() * B_.transpose();
+  // C^{-1/2} v = B D^{-1} B^T v from the current (possibly lazily kept) decomposition, applied
+  // to vectors so an update costs O(n^2 lambda), not O(n^3).
+  const Eigen::VectorXd inv_d = D_.cwiseInverse();
+  auto inv_sqrt = [&](const auto& v) -> Eigen::VectorXd {
+    return B_ * inv_d.cwiseProduct(B_.transpose() * v);
+  };
 
   mean_ += k.cm * sigma_ * yw;
-  ps_ = (1.0 - k.cs) * ps_ + std::sqrt(k.cs * (2.0 - k.cs) * k.mueff) * (inv_sqrt * yw);
+  ps_ = (1.0 - k.cs) * ps_ + std::sqrt(k.cs * (2.0 - k.cs) * k.mueff) * inv_sqrt(yw);
   const double chi_n = expected_norm(nd);
   const double ps_norm = ps_.norm();
   const double correction =
@@ -158,7 +162,7 @@ void CmaEs::tell(std::span<const std::span<const double>> ranked, const CmaConst
     if (w == 0.0) continue;
     const auto y = Y.col(static_cast<Index>(i));
     // Negative weights are rescaled by n / ||C^{-1/2} y||^2 (tutorial, eq. 46).
-    if (w < 0.0) w *= nd / (inv_sqrt * y).squaredNorm();
+    if (w < 0.0) w *= nd / inv_sqrt(y).squaredNorm();
     rank_mu += w * (y * y.transpose());
   }
   C_ = (1.0 + k.c1 * delta_h - k.c1 - k.cmu * weight_sum) * C_ + k.c1 * (pc_ * pc_.transpose()) +
