@@ -8,7 +8,7 @@ and CMA-MAE papers report it), the median coverage, and two-sided Mann-Whitney U
 
 usage: bench/cma_emitters.py [--tessera PATH] [--budget N] [--seeds K] [--threads T]
                              [--problems sphere-proj,rastrigin-proj,arm] [--work DIR]
-The default budget (20,000 evaluations, 5 seeds) finishes in about 15 minutes on two busy cores;
+The default budget (60,000 evaluations, 5 seeds) finishes in about 15 minutes on two busy cores;
 the published curves run to millions of evaluations, so larger budgets show the shape better.
 """
 import argparse
@@ -60,7 +60,7 @@ def measure(path):
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--tessera", default=find_tessera())
-    parser.add_argument("--budget", type=int, default=20000)
+    parser.add_argument("--budget", type=int, default=60000)
     parser.add_argument("--seeds", type=int, default=5)
     parser.add_argument("--threads", type=int, default=2)
     parser.add_argument("--problems", default="sphere-proj,rastrigin-proj,arm")

@@ -72,23 +72,26 @@ void MixtureEmitter::ask(const EliteArchive& archive, const EmitContext& context
 
 void MixtureEmitter::tell(const Batch& batch, std::span<const InsertResult> results) {
   if (random_batch_) return;
-  std::size_t offset = 0;
-  for (std::size_t k = 0; k < emitters_.size(); ++k) {
+  std::vector<std::size_t> offsets(emitters_.size(), 0);
+  for (std::size_t k = 1; k < emitters_.size(); ++k)
+    offsets[k] = offsets[k - 1] + parts_[k - 1].count;
+  // Emitters update independently of each other (each its own strategy and eigendecomposition),
+  // so they do it in parallel; the outcome does not depend on the order.
+  tbb::parallel_for(std::size_t{0}, emitters_.size(), [&](std::size_t k) {
     Batch& part = parts_[k];
     const std::size_t size = part.count;
-    if (size == 0) continue;
+    if (size == 0) return;
     const auto d = static_cast<std::ptrdiff_t>(batch.descriptor_size);
     const auto e = static_cast<std::ptrdiff_t>(batch.extra_size);
-    const auto from = static_cast<std::ptrdiff_t>(offset);
-    const auto to = static_cast<std::ptrdiff_t>(offset + size);
+    const auto from = static_cast<std::ptrdiff_t>(offsets[k]);
+    const auto to = static_cast<std::ptrdiff_t>(offsets[k] + size);
     std::copy(batch.fitness.begin() + from, batch.fitness.begin() + to, part.fitness.begin());
     std::copy(batch.valid.begin() + from, batch.valid.begin() + to, part.valid.begin());
     std::copy(batch.descriptors.begin() + from * d, batch.descriptors.begin() + to * d,
               part.descriptors.begin());
     std::copy(batch.extras.begin() + from * e, batch.extras.begin() + to * e, part.extras.begin());
-    emitters_[k]->tell(part, results.subspan(offset, size));
-    offset += size;
-  }
+    emitters_[k]->tell(part, results.subspan(offsets[k], size));
+  });
 }
 
 void MixtureEmitter::save(ResumeState& state) const {
