@@ -18,7 +18,9 @@ namespace {
 
 namespace fs = std::filesystem;
 
-enum class KeyType { integer, number, string, boolean, int_or_ints, numbers, strings, table, tables };
+enum class KeyType {
+  integer, number, string, boolean, int_or_ints, numbers, strings, table, tables
+};
 
 struct KeySpec {
   KeyType type;
