@@ -292,6 +292,11 @@ RgbImage Canvas::raster(double scale) const {
   return r.image;
 }
 
+double canvas_text_width(const std::string& text, double size) {
+  const double k = std::max(1.0, std::round(size * 2.0 / 9.0)) / 2.0;
+  return static_cast<double>(text.size()) * std::max(6.0 * k, 0.6 * size);
+}
+
 Rgb group_colour(std::size_t index) {
   static constexpr std::array<Rgb, 8> kPalette = {{{0, 114, 178},
                                                    {213, 94, 0},

@@ -60,6 +60,10 @@ class Canvas {
   std::vector<Shape> shapes_;
 };
 
+// Width of a text on the canvas, the larger of its PNG rendering (built-in font at scale 2) and a
+// typical sans-serif SVG rendering, for laying out legends and labels.
+double canvas_text_width(const std::string& text, double size);
+
 // Okabe & Ito's palette for colour-blind readers ("Color universal design", 2008), black last;
 // group i gets colour i modulo 8.
 Rgb group_colour(std::size_t index);

@@ -47,6 +47,13 @@ void legend(Canvas& c, double x, double y, const std::vector<std::string>& group
   }
 }
 
+double legend_width_of(const std::vector<std::string>& groups) {
+  double width = 34.0 + canvas_text_width("differs from", 10);
+  for (const std::string& g : groups)
+    width = std::max({width, 34.0 + canvas_text_width(g, 12), 34.0 + canvas_text_width(g, 10)});
+  return width;
+}
+
 void widen(double& lo, double& hi) {
   pad_range(lo, hi);
   const double m = 0.05 * (hi - lo);
@@ -99,7 +106,8 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
     const Rgb colour = group_colour(g);
     const double x = centre(g);
     const double half = slot * 0.28;
-    c.text(x, a.top + a.height + 18, s.group, 12, TextAnchor::middle);
+    c.text(x, a.top + a.height + 18, s.group, canvas_text_width(s.group, 12) > slot ? 9 : 12,
+           TextAnchor::middle);
     std::string counts = "n=" + std::to_string(s.n);
     if (s.n_missing > 0) counts += ", " + std::to_string(s.n_missing) + " missing";
     c.text(x, a.top + a.height + 33, counts, 10, TextAnchor::middle, kGrey);
@@ -165,9 +173,7 @@ Canvas curve_chart(const CurveComparison& cv, double alpha) {
   Axes a{84, 40, 420, 240};
   std::vector<std::string> names;
   for (const CurveGroup& g : cv.groups) names.push_back(g.group);
-  double legend_width = 40;
-  for (const std::string& n : names)
-    legend_width = std::max(legend_width, 34.0 + 7.0 * static_cast<double>(n.size()));
+  double legend_width = legend_width_of(names);
   Canvas c(a.left + a.width + 20 + legend_width, a.top + a.height + 70);
   c.text(12, 22, cv.measure + " over evaluations", 15, TextAnchor::start, kInk, true);
   double lo = std::numeric_limits<double>::infinity(), hi = -lo;
@@ -237,9 +243,7 @@ Canvas goal_chart(const std::string& family, const std::vector<const MeasureComp
   Axes a{84, 40, slot * static_cast<double>(std::max<std::size_t>(goals.size(), 1)), 240};
   std::vector<std::string> names;
   for (std::size_t g = 0; g < k; ++g) names.push_back(goals.front()->groups[g].group);
-  double legend_width = 40;
-  for (const std::string& n : names)
-    legend_width = std::max(legend_width, 34.0 + 7.0 * static_cast<double>(n.size()));
+  double legend_width = legend_width_of(names);
   Canvas c(a.left + a.width + 20 + legend_width, a.top + a.height + 84);
   c.text(12, 22, family + ": evaluations until the goal", 15, TextAnchor::start, kInk, true);
   double lo = 0, hi = -std::numeric_limits<double>::infinity(), budget = hi;
