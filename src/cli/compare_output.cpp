@@ -82,9 +82,11 @@ void write_text(std::ostream& out, const ComparisonResult& r) {
   for (const CurveComparison& c : r.curves) {
     if (!first) out << "\n";
     first = false;
+    std::size_t tested = 0;
+    for (const CurveTest& t : c.tests)
+      if (t.group == c.tests.front().group) ++tested;
     out << c.measure << " over evaluations: " << c.checkpoints.size() << " checkpoints; against "
-        << c.reference << " at "
-        << (c.tests.empty() ? 0 : c.tests.size() / std::max<std::size_t>(1, r.groups.size() - 1))
+        << c.reference << " at " << tested
         << " of them (Holm over the checkpoints of each group)\n";
     if (c.checkpoints.empty()) continue;
     const std::size_t last = c.checkpoints.size() - 1;

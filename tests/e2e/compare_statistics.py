@@ -7,7 +7,7 @@
 # report renders in headless Chromium (Debian chromium), every SVG parses (xml.etree), every PNG
 # decodes with its CRCs (PNG specification) and the page fetches nothing. Bad input is refused
 # in one line with exit 2.
-# ctest-labels: studies;slow
+# ctest-labels: studies;statistics;slow
 # ctest-timeout: 900
 import csv
 import glob
@@ -80,6 +80,8 @@ doc = json.loads(run("compare", *group_args, "--format", "json", "--reference", 
                      "--report", report).stdout)
 check(doc["groups"] == list(groups), f"groups {doc['groups']}")
 check(doc["reference"] == "gauss", "reference")
+check(len(doc["comparisons"]) == 9, f"{len(doc['comparisons'])} comparisons, expected 3 x 3")
+check([c["measure"] for c in doc["curves"]] == ["coverage", "qd_score", "max_fitness"], "curves")
 
 # Recompute from the archives.
 finals, histories = {}, {}
@@ -250,14 +252,21 @@ for folder, kinds in ((report, ("box-", "curve-")), (report2, ("box-", "goals-")
     for kind in kinds:
         check(any(n.startswith(kind) for n in svgs), f"{folder}: no {kind}*.svg")
     for n in svgs:
+        size = None
         try:
-            ET.parse(os.path.join(folder, n))
+            root = ET.parse(os.path.join(folder, n)).getroot()
+            check(root.tag == "{http://www.w3.org/2000/svg}svg", f"{n}: root {root.tag}")
+            size = (float(root.get("width")), float(root.get("height")))
         except ET.ParseError as e:
             failures.append(f"{n}: {e}")
         png = os.path.join(folder, n[:-4] + ".png")
         check(os.path.exists(png), f"{n}: no PNG beside it")
         if os.path.exists(png):
             pixels = decode_png(png)
+            # The PNG is the same drawing at two pixels per SVG pixel.
+            if size:
+                check(pixels.shape[:2] == (int(np.ceil(2 * size[1])), int(np.ceil(2 * size[0]))),
+                      f"{png}: {pixels.shape[:2]} pixels for an SVG of {size}")
             dark = (pixels.sum(axis=2) < 300).mean()
             check(0.001 < dark < 0.5, f"{png}: {dark:.4f} of the pixels dark (blank or black?)")
     page = open(os.path.join(folder, "index.html")).read()
