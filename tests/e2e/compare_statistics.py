@@ -283,6 +283,19 @@ for folder, kinds in ((report, ("box-", "curve-")), (report2, ("box-", "goals-")
 page2 = open(os.path.join(report2, "index.html")).read()
 check("missing" in page2 and "censored" in page2, "report 2 shows missing and censored runs")
 
+# An archive that cannot be read is reported and counted as missing; the others go on.
+os.makedirs(os.path.join(tmp, "broken-9"))
+with open(os.path.join(tmp, "broken-9", "archive.h5"), "wb") as f:
+    f.write(b"not an archive")
+shutil.copytree(os.path.join(tmp, "gauss-1"), os.path.join(tmp, "broken-1"))
+p = run("compare", "--group", f"broken={tmp}/broken-*/archive.h5", "--group",
+        f"gauss={tmp}/gauss-*/archive.h5", "--format", "json")
+check("broken-9" in p.stderr and "missing" in p.stderr, f"warning: {p.stderr!r}")
+cov = [m for m in json.loads(p.stdout)["measures"] if m["measure"] == "coverage"][0]
+check(cov["groups"][0]["n"] == 1 and cov["groups"][0]["n_missing"] == 1,
+      f"unreadable archive counted as missing: {cov['groups'][0]}")
+check(cov["groups"][0]["median"] == finals[("coverage", "gauss")][0], "median of the readable run")
+
 # Bad input: one line, exit 2.
 for args, needle in (
         (["--group", "nolabel"], "LABEL=GLOB"),
