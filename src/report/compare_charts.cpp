@@ -127,6 +127,7 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
     if (m.binary) {
       const double share = static_cast<double>(s.successes) / static_cast<double>(s.n);
       c.rect(x - half, a.py(share), 2 * half, a.py(0) - a.py(share), colour, 0.55);
+      c.frame(x - half, a.py(share), 2 * half, a.py(0) - a.py(share), colour, 1.2);
       c.text(x, a.py(share) - 4, std::to_string(s.successes) + "/" + std::to_string(s.n), 11,
              TextAnchor::middle);
       continue;

@@ -267,6 +267,11 @@ for folder, kinds in ((report, ("box-", "curve-")), (report2, ("box-", "goals-")
             if size:
                 check(pixels.shape[:2] == (int(np.ceil(2 * size[1])), int(np.ceil(2 * size[0]))),
                       f"{png}: {pixels.shape[:2]} pixels for an SVG of {size}")
+            # Each group is drawn in its colour of Okabe & Ito's palette (first three: blue
+            # 0,114,178; vermillion 213,94,0; bluish green 0,158,115).
+            colours = {tuple(c) for c in np.unique(pixels.reshape(-1, 3), axis=0)}
+            for rgb in ((0, 114, 178), (213, 94, 0), (0, 158, 115)):
+                check(rgb in colours, f"{png}: group colour {rgb} not drawn")
             dark = (pixels.sum(axis=2) < 300).mean()
             check(0.001 < dark < 0.5, f"{png}: {dark:.4f} of the pixels dark (blank or black?)")
     page = open(os.path.join(folder, "index.html")).read()
