@@ -198,7 +198,7 @@ TEST_CASE("Fisher's exact test equals scipy.stats.fisher_exact") {
     CHECK(fisher_exact_p(t[0], t[1], t[2], t[3]) == Approx(reference[k][0]).epsilon(1e-9));
   }
   // Fisher's tea-tasting design (Fisher, The Design of Experiments, 1935): 4 of 4 cups right,
-  // two-sided p = 2 / 70.
+  // two-sided p = 2 / 70 (from memory: one table of the C(8, 4) = 70 is that extreme per side).
   CHECK(fisher_exact_p(4, 0, 0, 4) == Approx(2.0 / 70.0).epsilon(1e-14));
 }
 
