@@ -4,6 +4,7 @@
 #include <cmath>
 #include <limits>
 #include <memory>
+#include <stdexcept>
 
 #include "core/archive/archive.hpp"
 #include "core/base/rng.hpp"
@@ -99,6 +100,30 @@ TEST_CASE("archive insertion: new cell, improvement, ties keep the incumbent, in
   CHECK(archive.insert(g1, 9.0, d, 8, /*valid=*/false).outcome == Insertion::invalid);
   CHECK(archive.size() == 1);
   CHECK(archive.fitness(0) == 2.0);
+}
+
+TEST_CASE("every elite keeps the extra figures of its own evaluation") {
+  EliteArchive archive(unit_grid(2, 2), 1, 2);
+  const std::vector<double> g{0.1};
+  const std::vector<double> d{0.5, 0.5}, other{-0.5, -0.5};
+  archive.insert(g, 1.0, d, 1, true, std::vector<double>{10.0, 11.0});
+  archive.insert(g, 0.5, d, 2, true, std::vector<double>{20.0, 21.0});  // rejected: figures stay
+  CHECK(archive.extras(0)[0] == 10.0);
+  CHECK(archive.extras(0)[1] == 11.0);
+  archive.insert(g, 3.0, d, 3, true, std::vector<double>{30.0, 31.0});  // improved: replaced
+  CHECK(archive.extras(0)[0] == 30.0);
+  CHECK(archive.extras(0)[1] == 31.0);
+  archive.insert(g, 1.0, other, 4, true, std::vector<double>{40.0, 41.0});
+  CHECK(archive.extras(1)[1] == 41.0);
+  // Elites restored from a file without figures hold NaN: not recorded.
+  archive.restore(1, g, 0.0, std::vector<double>{0.5, -0.5}, 5);
+  CHECK(std::isnan(archive.extras(2)[0]));
+  CHECK(std::isnan(archive.extras(2)[1]));
+  // The wrong number of figures is refused before anything changes.
+  CHECK_THROWS_AS(archive.insert(g, 9.0, d, 6, true, std::vector<double>{1.0}),
+                  std::invalid_argument);
+  CHECK(archive.size() == 3);
+  CHECK(archive.fitness(0) == 3.0);
 }
 
 TEST_CASE("out-of-bounds descriptors are stored clamped into their edge cell") {
