@@ -19,8 +19,10 @@ const char* to_string(Insertion outcome) {
 
 EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::size_t genome_size,
                            std::size_t extra_size)
-    : space_(std::move(space)), genome_size_(genome_size),
-      descriptor_size_(space_->dimensions()), extra_size_(extra_size) {
+    : space_(std::move(space)),
+      genome_size_(genome_size),
+      descriptor_size_(space_->dimensions()),
+      extra_size_(extra_size) {
   if (space_->cell_count() > kMaxCells)
     throw std::invalid_argument("archive: more than 2^28 cells");
   slot_of_cell_.assign(static_cast<std::size_t>(space_->cell_count()), -1);
