@@ -133,7 +133,8 @@ std::string draw_scene(const PlotFrame& f, const Figure& scene, bool labels) {
 
 // One elite's trace in its colour: paths with an end mark, guides dashed, the body thick with
 // joint dots, points as small dots.
-std::string draw_trace(const PlotFrame& f, const Figure& trace, const char* c, bool thin) {
+std::string draw_trace(const PlotFrame& f, const Figure& trace, const char* c, bool thin,
+                       bool guides = true) {
   std::string s;
   const std::string stroke = std::string("stroke=\"") + c + "\"";
   for (const auto& item : trace.items) {
@@ -150,6 +151,7 @@ std::string draw_trace(const PlotFrame& f, const Figure& trace, const char* c, b
             s += "<circle cx=\"" + num(f.px(item.at(r, xc))) + "\" cy=\"" +
                  num(f.py(item.at(r, xc + 1))) + "\" r=\"2.5\" fill=\"#fff\" stroke=\"#222\"/>\n";
       } else if (item.style == FigureStyle::guide) {
+        if (!guides) continue;
         s += line_shape(f, item,
                         stroke +
                             " stroke-width=\"1\" stroke-opacity=\"0.6\" "
@@ -218,7 +220,8 @@ ReportPanel overview(const SceneDrawing& d) {
   body += elite_dots(f, d.elite_points);
   // The first chosen elite last, on top.
   for (std::size_t i = d.traces.size(); i-- > 0;)
-    body += draw_trace(f, d.traces[i].figure, colour(i), d.traces.size() > 1);
+    // Construction lines of the first elite only: five sets would hide the paths.
+    body += draw_trace(f, d.traces[i].figure, colour(i), d.traces.size() > 1, i == 0);
   // Legend under the drawing.
   double y = f.top + f.height + 62;
   const std::string map_name = descriptor_map_name(d.scene);
