@@ -11,6 +11,7 @@
 // motor_strength (12 factors in [0, 10] on servo gain and torque limit).
 #include <tessera/plugin.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <exception>
@@ -181,9 +182,11 @@ extern "C" {
 TSR_EXPORT int tsr_scene(tsr_instance* instance, tsr_figure* figure, char* error,
                          size_t error_size) {
   return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
-    const double limit = instance->sim->settings().max_speed * instance->sim->settings().duration;
-    f.note("units", "m (floor plane, seen from above)");
-    f.add(TSR_POLYLINE, TSR_STYLE_GUIDE, "heading +x", "x,y", {0.0, 0.0, limit, 0.0});
+    // A short arrow shaft along +x: the full reach (max_speed x duration) would dwarf the paths.
+    const auto& settings = instance->sim->settings();
+    const double shaft = std::min(0.5, settings.max_speed * settings.duration);
+    f.note("units", "m");
+    f.add(TSR_POLYLINE, TSR_STYLE_GUIDE, "heading +x", "x,y", {0.0, 0.0, shaft, 0.0});
     f.add(TSR_POINTS, TSR_STYLE_ANCHOR, "start", "x,y", {0.0, 0.0});
   });
 }
