@@ -12,11 +12,13 @@
 #include <thread>
 
 #include "cli/commands.hpp"
+#include "cli/compare_output.hpp"
 #include "cli/study_measures.hpp"
 #include "cli/study_plan.hpp"
 #include "cli/study_runner.hpp"
 #include "core/base/errors.hpp"
 #include "eval/cluster.hpp"
+#include "io/measures_csv.hpp"
 
 namespace tessera::cli {
 namespace {
@@ -141,14 +143,7 @@ int run_study(const StudyOptions& o) {
   std::vector<std::string> notes;
   const ObservationTable table = collect_measures(spec, plan, runner.threads * runner.jobs, notes);
   const fs::path csv = out / "measures.csv";
-  {
-    const fs::path temp = out / "measures.csv.tmp";
-    std::ofstream file(temp, std::ios::trunc);
-    write_measures_csv(file, table);
-    file.close();
-    if (!file) throw InputError(temp.string() + ": cannot write");
-    fs::rename(temp, csv);
-  }
+  write_measures_csv(csv.string(), table.finals);
   std::size_t missing = 0;
   for (const auto& row : table.finals) missing += row.value ? 0 : 1;
   std::size_t failed = 0;
@@ -161,6 +156,15 @@ int run_study(const StudyOptions& o) {
             << "measures: " << csv.string() << " (" << table.finals.size() << " values, " << missing
             << " missing)\n";
   for (const auto& n : notes) std::cerr << "tessera: measure missing: " << n << "\n";
+  // The statistics and the report, as `tessera compare --measures DIR/measures.csv` gives them.
+  CompareOutputOptions compare;
+  compare.report_dir = (out / "report").string();
+  compare.reference = spec.reference;
+  for (const auto& t : spec.treatments) compare.groups.push_back(t.label);
+  compare.title = "Study " + spec.name;
+  std::cout << "\n";
+  write_comparison(std::cout, table, compare);
+  std::cout << "report: " << compare.report_dir << "/index.html\n";
   if (failed > 0) {
     std::cerr << "tessera: " << failed << " run(s) failed; their measures are missing:";
     for (const auto& job : plan.jobs)

@@ -17,5 +17,6 @@ void register_adapt(CLI::App& app);
 void register_export_linkage(CLI::App& app);
 void register_transfer(CLI::App& app);
 void register_study(CLI::App& app);
+void register_compare(CLI::App& app);
 
 }  // namespace tessera::cli

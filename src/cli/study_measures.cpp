@@ -37,19 +37,6 @@ std::optional<std::uint64_t> first_reached(const ArchiveSnapshot& s, double thre
   return std::nullopt;
 }
 
-std::string exact(double v) {
-  char text[32];
-  std::snprintf(text, sizeof text, "%.17g", v);
-  return text;
-}
-
-std::string csv_field(const std::string& text) {
-  if (text.find_first_of(",\"\n") == std::string::npos) return text;
-  std::string out = "\"";
-  for (char c : text) out += c == '"' ? std::string("\"\"") : std::string(1, c);
-  return out + "\"";
-}
-
 }  // namespace
 
 void check_probes(const StudySpec& spec) {
@@ -113,7 +100,7 @@ ObservationTable collect_measures(const StudySpec& spec, const StudyPlan& plan, 
                 false);
           break;
         case MeasureKind::success:
-          add(measure.name, last.max_fitness >= measure.threshold ? 1.0 : 0.0, false);
+          add(names[0], last.max_fitness >= measure.threshold ? 1.0 : 0.0, false);
           break;
         case MeasureKind::probe: {
           auto& problem = probes[m];
@@ -155,13 +142,6 @@ ObservationTable collect_measures(const StudySpec& spec, const StudyPlan& plan, 
     }
   }
   return table;
-}
-
-void write_measures_csv(std::ostream& out, const ObservationTable& table) {
-  out << "group,run,measure,value,censored\n";
-  for (const auto& o : table.finals)
-    out << csv_field(o.group) << "," << csv_field(o.run) << "," << csv_field(o.measure) << ","
-        << (o.value ? exact(*o.value) : std::string()) << "," << (o.censored ? 1 : 0) << "\n";
 }
 
 }  // namespace tessera::cli

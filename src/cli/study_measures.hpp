@@ -4,7 +4,6 @@
 #pragma once
 
 #include <filesystem>
-#include <iosfwd>
 #include <string>
 #include <vector>
 
@@ -21,8 +20,5 @@ void check_probes(const StudySpec& spec);
 // `notes` gets one line per measure that could not be taken from a finished run.
 ObservationTable collect_measures(const StudySpec& spec, const StudyPlan& plan, std::size_t threads,
                                   std::vector<std::string>& notes);
-
-// Long format: group,run,measure,value,censored; an empty value is missing.
-void write_measures_csv(std::ostream& out, const ObservationTable& table);
 
 }  // namespace tessera::cli

@@ -63,7 +63,8 @@ void write_marker(const fs::path& path, const std::string& text) {
   argv.push_back(const_cast<char*>(exe.c_str()));
   for (const auto& a : args) argv.push_back(const_cast<char*>(a.c_str()));
   argv.push_back(nullptr);
-  ::execv(exe.c_str(), argv.data());
+  // /proc/self/exe: the very binary of the study, even if the file was replaced meanwhile.
+  ::execv("/proc/self/exe", argv.data());
   std::fprintf(stderr, "tessera: cannot start %s: %s\n", exe.c_str(), std::strerror(errno));
   std::_Exit(127);
 }

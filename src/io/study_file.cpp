@@ -168,7 +168,7 @@ StudyMeasure parse_measure(const toml::table& t, const std::string& prefix, cons
   } else if (kind == "success") {
     m.kind = MeasureKind::success;
     check_keys(t, prefix, {"kind", "name", "threshold"}, checker);
-    m.name = t.contains("name") ? text_of(t, "name", prefix + "name", checker, true) : "success";
+    m.name = text_of(t, "name", prefix + "name", checker, false);
     m.threshold = number_of(t, "threshold", prefix + "threshold", checker);
   } else if (kind == "probe") {
     m.kind = MeasureKind::probe;
@@ -217,8 +217,8 @@ std::vector<std::string> measure_names(const StudyMeasure& m) {
     case MeasureKind::final_figures:
       out = m.figures;
       break;
-    case MeasureKind::success:
-      out.push_back(m.name);
+    case MeasureKind::success:  // named so that comparisons test it with Fisher's exact test
+      out.push_back(m.name.empty() ? "success" : "success." + m.name);
       break;
     case MeasureKind::probe:
       for (const auto& f : m.figures) out.push_back("probe." + m.name + "." + f);

@@ -20,9 +20,10 @@ shipped = os.path.join(SOURCE, "problems", "studies", "arm-operators.toml")
 # The shipped study with 3 seeds and runs long enough to interrupt (checkpoints every 2 batches).
 text = open(shipped).read()
 text = text.replace("replicates = 5 ", "replicates = 3 ")
-text = text.replace("search.evaluations = 20000", "search.evaluations = 60000\n"
+budget = 40000
+text = text.replace("search.evaluations = 20000", f"search.evaluations = {budget}\n"
                     "checkpoint.every_evaluations = 1000")
-assert "replicates = 3" in text and text.count("evaluations = 60000") == 2
+assert "replicates = 3" in text and text.count(f"evaluations = {budget}") == 2
 study = os.path.join(work, "arm-operators.toml")
 with open(study, "w") as f:
     f.write(text.replace('run = "../arm.toml"', f'run = "{os.path.join(SOURCE, "problems", "arm.toml")}"'))
@@ -49,8 +50,15 @@ deadline = time.time() + 600
 while time.time() < deadline:
     dirs = [run_dir(cut, l, s) for l in labels for s in seeds]
     done = [d for d in dirs if os.path.exists(os.path.join(d, "done"))]
-    partial = [d for d in dirs if os.path.exists(os.path.join(d, "archive.h5"))
-               and not os.path.exists(os.path.join(d, "done"))]
+    partial = []  # checkpointed, at most half way: it cannot finish before the signal lands
+    for d in dirs:
+        if os.path.exists(os.path.join(d, "archive.h5")) and not os.path.exists(os.path.join(d, "done")):
+            try:
+                with h5py.File(os.path.join(d, "archive.h5"), "r") as f:
+                    if int(f.attrs["evaluations"]) <= budget // 2:
+                        partial.append(d)
+            except OSError:
+                pass  # replaced while being opened; look again
     if done and partial:
         break
     if child.poll() is not None:
@@ -73,7 +81,7 @@ for l in labels:
             finished[d] = (st.st_ino, st.st_mtime_ns)
         elif os.path.exists(os.path.join(d, "archive.h5")):
             with h5py.File(os.path.join(d, "archive.h5"), "r") as f:
-                assert int(f.attrs["evaluations"]) < 60000
+                assert int(f.attrs["evaluations"]) < budget
             interrupted.append(d)
 assert finished and interrupted, (finished, interrupted)
 
@@ -98,7 +106,7 @@ for l in labels:
     for s in seeds:
         alone = os.path.join(work, f"alone-{l}-{s}")
         run("illuminate", os.path.join(SOURCE, "problems", "arm.toml"), "--out", alone, "--seed", s,
-            "--quiet", "--threads", 2, *settings[l], "--set", "search.evaluations=60000",
+            "--quiet", "--threads", 2, *settings[l], "--set", f"search.evaluations={budget}",
             "--set", "search.batch=500", "--set", "checkpoint.every_evaluations=1000")
         expected = read_archive(os.path.join(alone, "archive.h5"))
         for out in (whole, cut):
