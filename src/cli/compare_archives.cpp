@@ -3,6 +3,7 @@
 #include <glob.h>
 
 #include <algorithm>
+#include <span>
 
 #include "core/base/errors.hpp"
 #include "io/archive_file.hpp"
@@ -29,8 +30,10 @@ ArchiveGroup parse_archive_group(const std::string& text) {
 }
 
 void add_archive_observations(const std::vector<ArchiveGroup>& groups, ObservationTable& table,
-                              std::ostream& warnings) {
-  static const char* kMeasures[] = {"coverage", "qd_score", "max_fitness"};
+                              std::ostream& warnings, bool with_finals) {
+  static const char* const kMeasures[] = {"coverage", "qd_score", "max_fitness"};
+  const std::span<const char* const> finals =
+      with_finals ? std::span<const char* const>(kMeasures) : std::span<const char* const>();
   for (const ArchiveGroup& g : groups) {
     for (const std::string& path : g.archives) {
       ArchiveSnapshot s;
@@ -42,7 +45,7 @@ void add_archive_observations(const std::vector<ArchiveGroup>& groups, Observati
         ok = false;
       }
       const HistoryRow* last = ok && !s.history.empty() ? &s.history.back() : nullptr;
-      for (const char* m : kMeasures) {
+      for (const char* m : finals) {
         Observation o;
         o.group = g.label;
         o.run = path;

@@ -22,8 +22,9 @@ struct ArchiveGroup {
 // empty label, or when the pattern matches no file.
 ArchiveGroup parse_archive_group(const std::string& text);
 
-// Appends the archives' finals and curves to `table`.
+// Appends the archives' curves to `table`, and their finals unless `with_finals` is false (a
+// study that measured the finals itself adds only the curves). The run of an archive is its path.
 void add_archive_observations(const std::vector<ArchiveGroup>& groups, ObservationTable& table,
-                              std::ostream& warnings);
+                              std::ostream& warnings, bool with_finals = true);
 
 }  // namespace tessera::cli

@@ -8,6 +8,7 @@
 
 #include "core/base/errors.hpp"
 #include "io/table_output.hpp"
+#include "report/compare_charts.hpp"
 #include "report/compare_report.hpp"
 
 namespace tessera::cli {
@@ -39,14 +40,6 @@ std::string text_p(double v) {
   return buf;
 }
 
-std::string stars(double p_holm) {
-  if (std::isnan(p_holm)) return "";
-  if (p_holm < 0.001) return "***";
-  if (p_holm < 0.01) return "**";
-  if (p_holm < 0.05) return "*";
-  return "";
-}
-
 void write_text(std::ostream& out, const ComparisonResult& r) {
   bool first = true;
   for (const MeasureComparison& m : r.measures) {
@@ -76,7 +69,8 @@ void write_text(std::ostream& out, const ComparisonResult& r) {
     for (const PairComparison& p : m.pairs)
       pairs.rows.push_back({"  " + p.a, p.b, static_cast<std::int64_t>(p.n_a),
                             static_cast<std::int64_t>(p.n_b), text_number(p.u), text_p(p.p),
-                            text_p(p.p_holm), stars(p.p_holm), text_number(p.a12), p.magnitude});
+                            text_p(p.p_holm), significance_stars(p.p_holm, r.alpha),
+                            text_number(p.a12), p.magnitude});
     write_table_text(out, pairs);
   }
   for (const CurveComparison& c : r.curves) {

@@ -64,8 +64,8 @@ class Canvas {
 // typical sans-serif SVG rendering, for laying out legends and labels.
 double canvas_text_width(const std::string& text, double size);
 
-// Okabe & Ito's palette for colour-blind readers ("Color universal design", 2008), black last;
-// group i gets colour i modulo 8.
+// Okabe & Ito's palette for colour-blind readers ("Color universal design", 2008; values from
+// memory), black last; group i gets colour i modulo 8.
 Rgb group_colour(std::size_t index);
 
 }  // namespace tessera

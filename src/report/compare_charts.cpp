@@ -47,6 +47,11 @@ void legend(Canvas& c, double x, double y, const std::vector<std::string>& group
   }
 }
 
+// Room for a chart's bold heading at (12, 22).
+double title_width(const std::string& title) {
+  return 24.0 + 1.1 * canvas_text_width(title, 15);
+}
+
 double legend_width_of(const std::vector<std::string>& groups) {
   double width = 34.0 + canvas_text_width("differs from", 10);
   for (const std::string& g : groups)
@@ -85,9 +90,9 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
   const double bracket_space = 16.0 * static_cast<double>(significant.size());
   const double slot = 90.0;
   Axes a{84, 40 + bracket_space, slot * static_cast<double>(std::max<std::size_t>(k, 1)), 240};
-  Canvas c(a.left + a.width + 24, a.top + a.height + 64);
-  c.text(12, 22, m.measure + (m.binary ? ": share of successes" : ""), 15, TextAnchor::start, kInk,
-         true);
+  const std::string title = m.measure + (m.binary ? ": share of successes" : "");
+  Canvas c(std::max(a.left + a.width + 24, title_width(title)), a.top + a.height + 64);
+  c.text(12, 22, title, 15, TextAnchor::start, kInk, true);
   if (m.binary) {
     a.y0 = 0;
     a.y1 = 1;
@@ -122,6 +127,7 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
     if (m.binary) {
       const double share = static_cast<double>(s.successes) / static_cast<double>(s.n);
       c.rect(x - half, a.py(share), 2 * half, a.py(0) - a.py(share), colour, 0.55);
+      c.frame(x - half, a.py(share), 2 * half, a.py(0) - a.py(share), colour, 1.2);
       c.text(x, a.py(share) - 4, std::to_string(s.successes) + "/" + std::to_string(s.n), 11,
              TextAnchor::middle);
       continue;
@@ -174,8 +180,10 @@ Canvas curve_chart(const CurveComparison& cv, double alpha) {
   std::vector<std::string> names;
   for (const CurveGroup& g : cv.groups) names.push_back(g.group);
   double legend_width = legend_width_of(names);
-  Canvas c(a.left + a.width + 20 + legend_width, a.top + a.height + 70);
-  c.text(12, 22, cv.measure + " over evaluations", 15, TextAnchor::start, kInk, true);
+  const std::string title = cv.measure + " over evaluations";
+  Canvas c(std::max(a.left + a.width + 20 + legend_width, title_width(title)),
+           a.top + a.height + 70);
+  c.text(12, 22, title, 15, TextAnchor::start, kInk, true);
   double lo = std::numeric_limits<double>::infinity(), hi = -lo;
   for (const CurveGroup& g : cv.groups)
     for (std::size_t i = 0; i < g.median.size(); ++i)
@@ -244,8 +252,10 @@ Canvas goal_chart(const std::string& family, const std::vector<const MeasureComp
   std::vector<std::string> names;
   for (std::size_t g = 0; g < k; ++g) names.push_back(goals.front()->groups[g].group);
   double legend_width = legend_width_of(names);
-  Canvas c(a.left + a.width + 20 + legend_width, a.top + a.height + 84);
-  c.text(12, 22, family + ": evaluations until the goal", 15, TextAnchor::start, kInk, true);
+  const std::string title = family + ": evaluations until the goal";
+  Canvas c(std::max(a.left + a.width + 20 + legend_width, title_width(title)),
+           a.top + a.height + 84);
+  c.text(12, 22, title, 15, TextAnchor::start, kInk, true);
   double lo = 0, hi = -std::numeric_limits<double>::infinity(), budget = hi;
   for (const MeasureComparison* m : goals)
     for (const GroupSummary& s : m->groups)

@@ -267,6 +267,11 @@ for folder, kinds in ((report, ("box-", "curve-")), (report2, ("box-", "goals-")
             if size:
                 check(pixels.shape[:2] == (int(np.ceil(2 * size[1])), int(np.ceil(2 * size[0]))),
                       f"{png}: {pixels.shape[:2]} pixels for an SVG of {size}")
+            # Each group is drawn in its colour of Okabe & Ito's palette (first three: blue
+            # 0,114,178; vermillion 213,94,0; bluish green 0,158,115).
+            colours = {tuple(c) for c in np.unique(pixels.reshape(-1, 3), axis=0)}
+            for rgb in ((0, 114, 178), (213, 94, 0), (0, 158, 115)):
+                check(rgb in colours, f"{png}: group colour {rgb} not drawn")
             dark = (pixels.sum(axis=2) < 300).mean()
             check(0.001 < dark < 0.5, f"{png}: {dark:.4f} of the pixels dark (blank or black?)")
     page = open(os.path.join(folder, "index.html")).read()
@@ -282,6 +287,19 @@ for folder, kinds in ((report, ("box-", "curve-")), (report2, ("box-", "goals-")
           f"{folder}: screenshot nearly blank ({non_white:.3f} non-white, std {rgb.std():.1f})")
 page2 = open(os.path.join(report2, "index.html")).read()
 check("missing" in page2 and "censored" in page2, "report 2 shows missing and censored runs")
+
+# An archive that cannot be read is reported and counted as missing; the others go on.
+os.makedirs(os.path.join(tmp, "broken-9"))
+with open(os.path.join(tmp, "broken-9", "archive.h5"), "wb") as f:
+    f.write(b"not an archive")
+shutil.copytree(os.path.join(tmp, "gauss-1"), os.path.join(tmp, "broken-1"))
+p = run("compare", "--group", f"broken={tmp}/broken-*/archive.h5", "--group",
+        f"gauss={tmp}/gauss-*/archive.h5", "--format", "json")
+check("broken-9" in p.stderr and "missing" in p.stderr, f"warning: {p.stderr!r}")
+cov = [m for m in json.loads(p.stdout)["measures"] if m["measure"] == "coverage"][0]
+check(cov["groups"][0]["n"] == 1 and cov["groups"][0]["n_missing"] == 1,
+      f"unreadable archive counted as missing: {cov['groups'][0]}")
+check(cov["groups"][0]["median"] == finals[("coverage", "gauss")][0], "median of the readable run")
 
 # Bad input: one line, exit 2.
 for args, needle in (

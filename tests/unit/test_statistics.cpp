@@ -93,7 +93,7 @@ TEST_CASE("Mann-Whitney U equals scipy.stats.mannwhitneyu: exact, asymptotic, ti
   std::vector<Case> cases;
   // Exact region (scipy: one sample of at most 8, no ties), both orders of the sizes.
   for (std::size_t n1 : {3, 4, 5, 7, 8})
-    for (std::size_t n2 : {3, 6, 8, 20, 50}) {
+    for (std::size_t n2 : {3, 6, 8, 20, 50, 120}) {
       for (double shift : {0.0, 0.8, 3.0}) {
         Case c;
         for (std::size_t i = 0; i < n1; ++i) c.x.push_back(mix.normal() + shift);
@@ -168,6 +168,10 @@ TEST_CASE("Mann-Whitney U on the worked example of scipy's documentation") {
   CHECK(r.u == 17.0);
   CHECK(r.method == MannWhitneyMethod::exact);
   CHECK(r.p == Approx(14.0 / 126.0).epsilon(1e-14));
+  // Full separation of 8 and 50: 2 / C(58, 8) = 2 / 1916797311.
+  CHECK(mann_whitney_exact_p(0, 8, 50) == Approx(2.0 / 1916797311.0).epsilon(1e-14));
+  CHECK(mann_whitney_exact_p(400, 50, 8) == Approx(2.0 / 1916797311.0).epsilon(1e-14));
+  CHECK(mann_whitney_exact_p(12, 4, 6) == 1.0);  // U at the centre: clipped to 1
   CHECK_THROWS(mann_whitney_u(std::vector<double>{}, females));
   CHECK_THROWS(mann_whitney_u(std::vector<double>{std::nan("")}, females));
 }
@@ -194,7 +198,7 @@ TEST_CASE("Fisher's exact test equals scipy.stats.fisher_exact") {
     CHECK(fisher_exact_p(t[0], t[1], t[2], t[3]) == Approx(reference[k][0]).epsilon(1e-9));
   }
   // Fisher's tea-tasting design (Fisher, The Design of Experiments, 1935): 4 of 4 cups right,
-  // two-sided p = 2 / 70.
+  // two-sided p = 2 / 70 (from memory: one table of the C(8, 4) = 70 is that extreme per side).
   CHECK(fisher_exact_p(4, 0, 0, 4) == Approx(2.0 / 70.0).epsilon(1e-14));
 }
 

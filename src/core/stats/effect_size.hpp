@@ -2,7 +2,7 @@
 // statistics of McGraw and Wong", J. Educ. Behav. Stat. 25(2), 2000): the probability that a
 // value drawn from the first group is larger than one drawn from the second, ties counting half.
 // 0.5 means no effect; their thresholds on the distance from 0.5 name the magnitude: 0.56 small,
-// 0.64 medium, 0.71 large (and symmetrically 0.44, 0.36, 0.29).
+// 0.64 medium, 0.71 large (and symmetrically 0.44, 0.36, 0.29; thresholds from memory).
 #pragma once
 
 #include <span>

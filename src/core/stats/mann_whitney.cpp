@@ -25,13 +25,37 @@ void average_ranks(std::span<const double> values, std::span<double> ranks) {
   }
 }
 
-double mann_whitney_exact_p(double u, std::size_t m, std::size_t n) {
-  // The distribution of U is the same for (m, n) and (n, m): keep the table small.
-  if (m > n) std::swap(m, n);
-  const double mn = static_cast<double>(m) * static_cast<double>(n);
-  const double upper = std::max(u, mn - u);
-  // P(U >= upper) = P(U <= mn - upper) by symmetry; sum the counts up to k_max.
-  const auto k_max = static_cast<std::size_t>(std::floor(mn - upper));
+namespace {
+
+// Sum of f(m, n, k) for k = 0..k_max (m <= n) and binomial(m + n, m), in exact integers: the
+// counts are the coefficients of the Gaussian binomial [m+n choose m]_q, built as
+// prod_{i=1..m} (1 - q^(n+i)) / (1 - q^i) and truncated at k_max (both steps only read lower
+// powers, so the truncation is exact). O(m k_max); false when binomial(m + n, m) could overflow.
+bool exact_tail_integer(std::size_t m, std::size_t n, std::size_t k_max, double& tail,
+                        double& total) {
+  __int128 binom = 1;
+  for (std::size_t i = 1; i <= m; ++i) {
+    binom = binom * static_cast<__int128>(n + i) / static_cast<__int128>(i);
+    if (binom > static_cast<__int128>(1e36)) return false;
+  }
+  std::vector<__int128> poly(k_max + 1, 0);
+  poly[0] = 1;
+  for (std::size_t i = 1; i <= m; ++i) {
+    const std::size_t a = n + i;
+    if (k_max >= a)
+      for (std::size_t k = k_max; k >= a; --k) poly[k] -= poly[k - a];
+    for (std::size_t k = i; k <= k_max; ++k) poly[k] += poly[k - i];
+  }
+  __int128 sum = 0;
+  for (const __int128 c : poly) sum += c;
+  tail = static_cast<double>(static_cast<long double>(sum));
+  total = static_cast<double>(static_cast<long double>(binom));
+  return true;
+}
+
+// The same by the recurrence of Mann & Whitney in doubles, for sizes beyond the integers above.
+void exact_tail_recurrence(std::size_t m, std::size_t n, std::size_t k_max, double& tail,
+                           double& total) {
   // counts[j][k] = f(j, c, k) for the current count c of the larger sample; rows j are updated in
   // rising order, so row j - 1 already holds column c. All additions of non-negative numbers: no
   // cancellation even where counts exceed 2^53.
@@ -40,11 +64,25 @@ double mann_whitney_exact_p(double u, std::size_t m, std::size_t n) {
   for (std::size_t c = 1; c <= n; ++c)
     for (std::size_t j = 1; j <= m; ++j)
       for (std::size_t k = c; k <= k_max; ++k) counts[j][k] += counts[j - 1][k - c];
-  double tail = 0.0;
+  tail = 0.0;
   for (std::size_t k = 0; k <= k_max; ++k) tail += counts[m][k];
-  double total = 1.0;  // binomial(m + n, m)
+  total = 1.0;  // binomial(m + n, m)
   for (std::size_t i = 1; i <= m; ++i)
     total = total * static_cast<double>(n + i) / static_cast<double>(i);
+}
+
+}  // namespace
+
+double mann_whitney_exact_p(double u, std::size_t m, std::size_t n) {
+  // The distribution of U is the same for (m, n) and (n, m).
+  if (m > n) std::swap(m, n);
+  const double mn = static_cast<double>(m) * static_cast<double>(n);
+  const double upper = std::max(u, mn - u);
+  // P(U >= upper) = P(U <= mn - upper) by symmetry; sum the counts up to k_max.
+  const auto k_max = static_cast<std::size_t>(std::floor(mn - upper));
+  double tail = 0.0, total = 1.0;
+  if (!exact_tail_integer(m, n, k_max, tail, total))
+    exact_tail_recurrence(m, n, k_max, tail, total);
   return std::min(1.0, 2.0 * tail / total);
 }
 
