@@ -11,6 +11,8 @@ import csv
 import json
 import os
 
+import tomllib
+
 import h5py
 import numpy as np
 from tessera_test_util import SOURCE, run, tempdir
@@ -68,7 +70,8 @@ for seed in (1, 2):
         drawn = f["elites/genome"][()]
         config = f.attrs["config"]
         config = config.decode() if isinstance(config, bytes) else config
-    assert 'algorithm = "random"' in config and 'start_draw = "resample"' in config, config
+    search = tomllib.loads(config)["search"]
+    assert search["algorithm"] == "random" and search["start_draw"] == "resample", config
     assert drawn.shape[1] == source.shape[1] and len(drawn) > 0
     for p in range(source.shape[1]):
         assert np.isin(drawn[:, p], source[:, p]).all(), f"parameter {p}: a value novelty never had"
@@ -100,7 +103,9 @@ for seed in (1, 2):
                 maxfit = f["history/max_fitness"][()]
                 cfg = f.attrs["config"]
                 cfg = cfg.decode() if isinstance(cfg, bytes) else cfg
-            assert "start_from" in cfg and archive(label, seed) in cfg, cfg
+            search = tomllib.loads(cfg)["search"]
+            assert search["start_from"] == archive(label, seed), cfg
+            assert search["stop_fitness"] == threshold and search["evaluations"] == budget, cfg
             hit = np.nonzero(maxfit >= threshold)[0]
             r = rows[key + (f"readapt.maze.{place}",)]
             if len(hit):
