@@ -117,4 +117,17 @@ if [ "$rc" -ne 1 ] || ! grep -q "broken seed-1: exit code 2" "$work/stderr" \
 else
   echo "ok   failing-run: $(grep -m1 'broken seed-1' "$work/stderr")"
 fi
+# --list numbers the (treatment, replicate) runs; --only INDEX runs that one alone (a job-array
+# task) and takes no measures; the study then runs the rest and skips it.
+"$TESSERA" study "$work/failing.toml" --out "$work/only" --list >"$work/list" 2>&1
+"$TESSERA" study "$work/failing.toml" --out "$work/only" --only 1 --quiet >"$work/stdout" 2>&1
+only_rc=$?
+runs_done=$(find "$work/only/runs" -name done | wc -l)
+if ! grep -q "^1  good seed-2$" "$work/list" || ! grep -q "^3  broken seed-2$" "$work/list" \
+   || [ "$only_rc" -ne 0 ] || [ "$runs_done" -ne 1 ] || [ ! -e "$work/only/runs/good/seed-2/done" ] \
+   || [ -e "$work/only/measures.csv" ]; then
+  echo "FAIL only: rc=$only_rc done=$runs_done"; cat "$work/list" "$work/stdout"; fail=1
+else
+  echo "ok   only: one run, no measures"
+fi
 exit $fail
