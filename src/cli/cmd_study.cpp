@@ -2,6 +2,8 @@
 // replicate) of a study into DIR/runs/LABEL/seed-S/archive.h5, whole runs side by side, then
 // takes the measures into DIR/measures.csv. Resumable: the same command skips finished runs and
 // continues interrupted ones from their checkpoints. Under mpirun the runs spread over the ranks.
+#include <unistd.h>
+
 #include <chrono>
 #include <csignal>
 #include <filesystem>
@@ -56,7 +58,8 @@ void check_fingerprint(const fs::path& out, const StudyPlan& plan, const std::st
   }
   fs::create_directories(out, ec);
   if (ec) throw InputError(out.string() + ": cannot create the output folder: " + ec.message());
-  const fs::path temp = out / "study-plan.txt.tmp";
+  // Job-array tasks may start together: each writes its own temporary file, then renames it.
+  const fs::path temp = out / ("study-plan.txt." + std::to_string(::getpid()));
   {
     std::ofstream o(temp, std::ios::trunc);
     o << plan.fingerprint;
