@@ -16,6 +16,7 @@ void register_report(CLI::App& app);
 void register_adapt(CLI::App& app);
 void register_trace(CLI::App& app);
 void register_transfer(CLI::App& app);
+void register_study(CLI::App& app);
 void register_compare(CLI::App& app);
 
 }  // namespace tessera::cli

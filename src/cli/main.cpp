@@ -2,6 +2,7 @@
 #include <cstdio>
 #include <exception>
 #include <iostream>
+#include <string>
 
 #include "cli/commands.hpp"
 #include "cli/run_setup.hpp"
@@ -21,7 +22,9 @@ const char* kAbout =
 int main(int argc, char** argv) {
   // Under mpirun every rank runs this binary: ranks 1..N-1 serve evaluations and exit.
   tessera::cluster::init(&argc, &argv);
-  if (tessera::cluster::active() && tessera::cluster::rank() != 0)
+  // `study` spreads whole runs over the ranks instead: every rank runs its share.
+  const bool whole_runs = argc > 1 && std::string(argv[1]) == "study";
+  if (tessera::cluster::active() && tessera::cluster::rank() != 0 && !whole_runs)
     return tessera::cluster::serve(tessera::cli::open_worker_problem);
   struct ClusterGuard {
     ~ClusterGuard() { tessera::cluster::finish(); }
@@ -45,6 +48,7 @@ int main(int argc, char** argv) {
   tessera::cli::register_adapt(app);
   tessera::cli::register_trace(app);
   tessera::cli::register_transfer(app);
+  tessera::cli::register_study(app);
   tessera::cli::register_compare(app);
   try {
     app.parse(argc, argv);

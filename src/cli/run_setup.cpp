@@ -8,6 +8,7 @@
 #include "core/search/population_search.hpp"
 #include "core/search/variation_emitter.hpp"
 #include "eval/problem_factory.hpp"
+#include "io/archive_file.hpp"
 #include "io/cvt_cache.hpp"
 
 namespace tessera::cli {
@@ -34,6 +35,27 @@ std::shared_ptr<const DescriptorSpace> build_space(const RunConfig& config, cons
   return std::make_shared<CvtSpace>(bounds, info.descriptor_names, std::move(centroids));
 }
 
+// The elites of the archive named by search.start_from, as the genomes the search starts from.
+std::shared_ptr<const StartGenomes> start_genomes(const RunConfig& config, const ProblemInfo& info) {
+  const std::string key = config.source + ": key 'search.start_from': ";
+  ArchiveSnapshot source;
+  try {
+    source = read_archive_file(config.start_from);
+  } catch (const InputError& e) {
+    throw InputError(key + e.what());
+  }
+  if (source.elite_count() == 0) throw InputError(key + config.start_from + " holds no elites");
+  if (source.genome_size() != info.genome_size())
+    throw InputError(key + config.start_from + ": its elites have " +
+                     std::to_string(source.genome_size()) + " parameters, problem '" + info.name +
+                     "' takes " + std::to_string(info.genome_size()));
+  auto start = std::make_shared<StartGenomes>();
+  start->genomes = std::move(source.genome);
+  start->count = source.elite_count();
+  start->resample = config.start_resample;
+  return start;
+}
+
 }  // namespace
 
 PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string& log_path,
@@ -58,6 +80,7 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
   } else {
     space = build_space(config, info, run.space_note);
   }
+  if (!config.start_from.empty()) config.search.start = start_genomes(config, info);
   EvaluateFn evaluate;
   if (cluster::active()) {
     evaluate = cluster::distributed_evaluator(

@@ -69,6 +69,9 @@ const std::map<std::string, KeySpec>& schema() {
       {"search.sigma_iso", {KeyType::number, def_num(0.01), "Iso+LineDD isotropic step"}},
       {"search.sigma_line", {KeyType::number, def_num(0.2), "Iso+LineDD line step"}},
       {"search.sigma", {KeyType::number, def_num(0.05), "Gaussian mutation step"}},
+      {"search.start_from", {KeyType::string, {}, "archive whose elites are the initial genomes"}},
+      {"search.start_draw", {KeyType::string, {}, "copy | resample (per-parameter)"}},
+      {"search.stop_fitness", {KeyType::number, {}, "stop once the max fitness reaches it"}},
       {"search.emitters", {KeyType::tables, {}, "emitters sharing each batch (map-elites)"}},
       {"search.tournament", {KeyType::integer, def_int(3), "population searches: tournament size"}},
       {"novelty.neighbours", {KeyType::integer, def_int(15), "k nearest neighbours"}},
@@ -394,6 +397,26 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
   config.variation.sigma_iso = get_num(search, "sigma_iso", 0.01);
   config.variation.sigma_line = get_num(search, "sigma_line", 0.2);
   config.variation.sigma = get_num(search, "sigma", 0.05);
+  if (search.contains("start_from")) {
+    auto& path = search["start_from"].as_string()->get();
+    if (path.empty()) checker.fail(search["start_from"].node(), "search.start_from", "is empty");
+    if (!fs::path(path).is_absolute())
+      path = (fs::path(base_dir) / path).lexically_normal().string();
+    config.start_from = path;
+    const std::string draw = get_str(search, "start_draw", "copy");
+    if (draw != "copy" && draw != "resample")
+      checker.fail(search["start_draw"].node(), "search.start_draw",
+                   "must be \"copy\" or \"resample\"");
+    config.start_resample = draw == "resample";
+  } else if (search.contains("start_draw")) {
+    checker.fail(search["start_draw"].node(), "search.start_draw", "needs search.start_from");
+  }
+  if (search.contains("stop_fitness")) {
+    const double stop = get_num(search, "stop_fitness", 0.0);
+    if (!std::isfinite(stop))
+      checker.fail(search["stop_fitness"].node(), "search.stop_fitness", "must be finite");
+    config.search.stop_fitness = stop;
+  }
   config.population.tournament =
       static_cast<std::size_t>(positive_int(search, "search", "tournament", 1, checker));
   parse_novelty(section_of(root, "novelty"), checker, config.population.novelty);

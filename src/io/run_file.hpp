@@ -38,6 +38,8 @@ struct RunConfig {
   PopulationSettings population;  // novelty, novelty-lc, objective, random
   SpaceConfig space;
   CheckpointConfig checkpoint;
+  std::string start_from;       // archive whose elites start the search (absolute); empty = none
+  bool start_resample = false;  // draw per parameter from them instead of copying them
   std::string resolved_toml;   // the whole run file with defaults, as stored in archives
 };
 

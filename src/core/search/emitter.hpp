@@ -13,6 +13,10 @@
 #include "core/base/types.hpp"
 
 namespace tessera {
+struct StartGenomes;
+}
+
+namespace tessera {
 
 struct EmitContext {
   std::uint64_t seed = 0;
@@ -20,6 +24,7 @@ struct EmitContext {
   std::uint64_t first_candidate = 0;   // global index of the batch's first candidate
   std::uint64_t initial = 0;           // candidates with a global index below this are random
   const Bounds* genome_bounds = nullptr;
+  const StartGenomes* start = nullptr;  // initial candidates from these instead of uniform
 };
 
 class Emitter {

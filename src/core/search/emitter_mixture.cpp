@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <stdexcept>
 
+#include "core/search/search.hpp"
 #include "core/search/variation.hpp"
 
 namespace tessera {
@@ -47,7 +48,8 @@ void MixtureEmitter::ask(const EliteArchive& archive, const EmitContext& context
                         for (std::size_t j = range.begin(); j != range.end(); ++j) {
                           Rng rng(context.seed, context.batch_index, j,
                                   static_cast<std::uint64_t>(StreamPurpose::initial));
-                          random_genome(bounds, rng, batch.genome(j));
+                          initial_genome(context.start, bounds, context.first_candidate + j,
+                                         rng, batch.genome(j));
                         }
                       });
     return;

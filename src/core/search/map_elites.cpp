@@ -40,6 +40,7 @@ void MapElitesSearch::step() {
   context.first_candidate = counters_.evaluations;
   context.initial = settings_.effective_initial();
   context.genome_bounds = &genome_bounds_;
+  context.start = settings_.start.get();
   emitter_->ask(archive_, context, batch_);
 
   evaluate_(batch_);

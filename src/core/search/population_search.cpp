@@ -150,10 +150,14 @@ void PopulationSearch::make_children(std::size_t count) {
       [&](const tbb::blocked_range<std::size_t>& range) {
         for (std::size_t j = range.begin(); j != range.end(); ++j) {
           auto child = batch_.genome(j);
-          if (random_only || counters_.evaluations + j < settings_.effective_initial()) {
+          const bool initial = counters_.evaluations + j < settings_.effective_initial();
+          if (random_only || initial) {
             Rng rng(settings_.seed, next_batch_, j,
                     static_cast<std::uint64_t>(StreamPurpose::initial));
-            random_genome(genome_bounds_, rng, child);
+            // Start genomes seed the initial phase; resampled ones feed every random draw.
+            const bool from_start = initial || (settings_.start && settings_.start->resample);
+            initial_genome(from_start ? settings_.start.get() : nullptr, genome_bounds_,
+                           counters_.evaluations + j, rng, child);
             continue;
           }
           Rng pick(settings_.seed, next_batch_, j,

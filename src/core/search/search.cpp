@@ -2,7 +2,25 @@
 
 #include <algorithm>
 
+#include "core/search/variation.hpp"
+
 namespace tessera {
+
+void initial_genome(const StartGenomes* start, const Bounds& bounds, std::uint64_t index,
+                    Rng& rng, std::span<double> out) {
+  if (start == nullptr || start->count == 0) {
+    random_genome(bounds, rng, out);
+    return;
+  }
+  const std::size_t g = out.size();
+  if (!start->resample) {
+    const std::size_t row = static_cast<std::size_t>(index % start->count);
+    std::copy_n(start->genomes.begin() + static_cast<std::ptrdiff_t>(row * g), g, out.begin());
+    return;
+  }
+  for (std::size_t p = 0; p < g; ++p)
+    out[p] = start->genomes[static_cast<std::size_t>(rng.below(start->count)) * g + p];
+}
 
 InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::size_t j,
                              std::uint64_t birth, double qd_offset, SearchCounters& counters,

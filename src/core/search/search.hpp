@@ -5,14 +5,27 @@
 
 #include <cstdint>
 #include <functional>
+#include <memory>
+#include <optional>
+#include <span>
 #include <string>
 #include <vector>
 
 #include "core/archive/archive.hpp"
 #include "core/archive/snapshot.hpp"
+#include "core/base/rng.hpp"
 #include "core/base/types.hpp"
 
 namespace tessera {
+
+// Genomes a run starts from instead of uniform random ones (another run's elites): the initial
+// candidates copy them in turn, or draw each parameter from that parameter's observed values
+// (per-parameter resampling, used by the matched random control).
+struct StartGenomes {
+  std::vector<double> genomes;  // count x genome size, row-major
+  std::size_t count = 0;
+  bool resample = false;
+};
 
 // Fills fitness, descriptors, valid and extras of every candidate of a batch (in parallel).
 using EvaluateFn = std::function<void(Batch&)>;
@@ -23,7 +36,13 @@ struct SearchSettings {
   std::uint64_t evaluations = 100000;  // budget: total evaluations
   std::uint64_t initial = 0;           // random genomes first; 0 = one batch
   std::uint64_t effective_initial() const { return initial == 0 ? batch : initial; }
+  std::optional<double> stop_fitness;  // stop once the max fitness reaches it
+  std::shared_ptr<const StartGenomes> start;  // initial genomes from elites; null = uniform
 };
+
+// Initial candidate `index` (its global index): uniform within the bounds, or from `start`.
+void initial_genome(const StartGenomes* start, const Bounds& bounds, std::uint64_t index,
+                    Rng& rng, std::span<double> out);
 
 struct SearchCounters {
   std::uint64_t evaluations = 0;
@@ -47,7 +66,11 @@ class SearchAlgorithm {
  public:
   virtual ~SearchAlgorithm() = default;
   virtual std::string name() const = 0;
-  bool finished() const { return counters().evaluations >= settings().evaluations; }
+  bool finished() const {
+    if (counters().evaluations >= settings().evaluations) return true;
+    const auto& stop = settings().stop_fitness;
+    return stop && !history().empty() && history().back().max_fitness >= *stop;
+  }
   // One batch: make candidates, evaluate them, update the archive, append a history row.
   virtual void step() = 0;
   virtual const SearchSettings& settings() const = 0;

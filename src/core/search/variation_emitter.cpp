@@ -5,6 +5,7 @@
 
 #include <stdexcept>
 
+#include "core/search/search.hpp"
 #include "core/search/variation.hpp"
 
 namespace tessera {
@@ -31,7 +32,7 @@ void VariationEmitter::ask(const EliteArchive& archive, const EmitContext& conte
               static_cast<std::uint64_t>(StreamPurpose::variation));
       auto child = batch.genome(j);
       if (archive.empty() || context.first_candidate + j < context.initial) {
-        random_genome(bounds, rng, child);
+        initial_genome(context.start, bounds, context.first_candidate + j, rng, child);
         continue;
       }
       const auto x = archive.genome(rng.below(archive.size()));
