@@ -324,6 +324,11 @@ void write_contents(hid_t file, const ArchiveSnapshot& s) {
     const Handle resume = create_group(file, "resume");
     write_string_attr(resume.get(), "algorithm", s.resume->algorithm);
     write_scalar_attr<std::uint64_t>(resume.get(), "next_batch", s.resume->next_batch);
+    // The counters' names, so that a reader opens each attribute by name and never has to walk
+    // the attribute table (which a damaged file can make unsafe to walk).
+    std::string names;
+    for (const auto& [name, value] : s.resume->counters) names.append(name).append("\n");
+    write_string_attr(resume.get(), "counter_names", names);
     const Handle counters = create_group(resume.get(), "counters");
     for (const auto& [name, value] : s.resume->counters)
       write_scalar_attr<std::uint64_t>(counters.get(), name.c_str(), value);
@@ -442,6 +447,8 @@ void Reader::check_file_on_disk() {
   const fs::file_status st = fs::status(path_, ec);
   if (!fs::exists(st)) fail("no such file");
   if (fs::is_directory(st)) fail("is a directory, not an archive file");
+  // Opening a named pipe blocks until a writer appears; devices and sockets are no archives.
+  if (!fs::is_regular_file(st)) fail("is not a regular file (a named pipe, device or socket)");
   std::FILE* f = std::fopen(path_.c_str(), "rb");
   if (!f) fail(std::string("cannot be read: ") + std::strerror(errno));
   std::fclose(f);
@@ -830,24 +837,13 @@ void Reader::read_history(ArchiveSnapshot& s) {
   for (std::size_t i = 0; i < t; ++i) s.history[i] = HistoryRow{e[i], c[i], q[i], m[i]};
 }
 
-// Names of a group's links (or of an object's attributes), at most `limit` + 1 of them.
-std::vector<std::string> attribute_names(hid_t obj, std::size_t limit) {
-  struct Collect {
-    std::vector<std::string> names;
-    std::size_t limit;
-  } collect{{}, limit};
-  hsize_t index = 0;
-  ok(H5Aiterate2(
-         obj, H5_INDEX_NAME, H5_ITER_INC, &index,
-         [](hid_t, const char* name, const H5A_info_t*, void* data) -> herr_t {
-           auto* c = static_cast<Collect*>(data);
-           c->names.emplace_back(name);
-           return c->names.size() > c->limit ? 1 : 0;
-         },
-         &collect),
-     "H5Aiterate2");
-  return collect.names;
-}
+// Counters an archive without a /resume counter_names attribute may hold: those tessera wrote
+// before the attribute existed.
+const char* const kEarlyCounterNames[] = {
+    "invalid",          "out_of_bounds",       "new_cells",
+    "improvements",     "failed:crash",        "failed:timeout",
+    "failed:malformed answer", "failed:unknown id", "failed:not finite",
+    "failed:wrong descriptor length", "failed:worker error"};
 
 std::vector<std::string> link_names(hid_t group, std::size_t limit) {
   H5G_info_t info;
@@ -875,11 +871,24 @@ void Reader::read_resume(ArchiveSnapshot& s) {
   state.algorithm = string_attr(resume.get(), "/resume", "algorithm");
   state.next_batch = uint_attr(resume.get(), "/resume", "next_batch");
   const Handle counters = group("/resume/counters");
-  const auto counter_names = attribute_names(counters.get(), kMaxResumeEntries);
-  if (counter_names.size() > kMaxResumeEntries)
-    fail("/resume/counters has more than " + std::to_string(kMaxResumeEntries) + " entries");
-  for (const auto& name : counter_names)
-    state.counters[name] = uint_attr(counters.get(), "/resume/counters", name.c_str());
+  std::vector<std::string> counter_names;
+  if (ok(H5Aexists(resume.get(), "counter_names"), "H5Aexists") > 0) {
+    const std::string names = string_attr(resume.get(), "/resume", "counter_names");
+    for (std::size_t start = 0, end; (end = names.find('\n', start)) != std::string::npos;
+         start = end + 1) {
+      counter_names.push_back(names.substr(start, end - start));
+      if (counter_names.size() > kMaxResumeEntries)
+        fail("/resume/counters has more than " + std::to_string(kMaxResumeEntries) + " entries");
+      if (!valid_resume_name(counter_names.back()))
+        fail("/resume counter_names holds an unusable name");
+    }
+    for (const auto& name : counter_names)
+      state.counters[name] = uint_attr(counters.get(), "/resume/counters", name.c_str());
+  } else {
+    for (const char* name : kEarlyCounterNames)
+      if (ok(H5Aexists(counters.get(), name), "H5Aexists") > 0)
+        state.counters[name] = uint_attr(counters.get(), "/resume/counters", name);
+  }
   const Handle arrays = group("/resume/arrays");
   const auto array_names = link_names(arrays.get(), kMaxResumeEntries);
   if (array_names.size() > kMaxResumeEntries)
