@@ -28,6 +28,7 @@
 #include <vector>
 
 #include "core/base/errors.hpp"
+#include "eval/genome_digest.hpp"
 
 extern char** environ;
 
@@ -532,6 +533,15 @@ class WorkerPool {
     deaths_since_answer_ = 0;
     answered_ = true;
 
+    // Optional: the digest of the genome the worker evaluated; a mismatch means the answer
+    // belongs to another request (ids swapped) and is not used.
+    if (const auto digest = answer.find("digest"); digest != answer.end()) {
+      if (!digest->is_string() ||
+          digest->get<std::string>() != genome_digest(r->genome, genome_size_)) {
+        fail(r, "wrong genome digest", quoted(line));
+        return;
+      }
+    }
     if (answer.contains("error")) {
       const auto& text = answer["error"];
       fail(r, "worker error", one_line(text.is_string() ? text.get<std::string>() : text.dump()));

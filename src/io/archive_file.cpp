@@ -868,7 +868,7 @@ const char* const kEarlyCounterNames[] = {
     "invalid",          "out_of_bounds",       "new_cells",
     "improvements",     "failed:crash",        "failed:timeout",
     "failed:malformed answer", "failed:unknown id", "failed:not finite",
-    "failed:wrong descriptor length", "failed:worker error"};
+    "failed:wrong descriptor length", "failed:worker error", "failed:wrong genome digest"};
 
 std::vector<std::string> link_names(hid_t group, std::size_t limit) {
   H5G_info_t info;
