@@ -43,12 +43,15 @@ int run_resume(const ResumeOptions& o) {
   check_output_writable(base, "");  // the folder must take the next checkpoint
   RunConfig config =
       parse_run_text(saved.config, o.archive + " [stored run file]", base, overrides);
-  // MAP-Elites stores a batch cut by the budget and completes it; population searches score a
-  // batch as a whole, so their cut batch is not completed and the result differs from one run.
-  if (saved.resume->algorithm != "map-elites" && saved.evaluations % config.search.batch != 0)
+  // MAP-Elites with its variation emitter stores a batch cut by the budget and completes it
+  // exactly. Population searches score a batch as a whole, and CMA emitters keep the steps they
+  // sampled between asking and learning: for them a cut batch is not completed exactly.
+  const bool exact_cut = saved.resume->algorithm == "map-elites" && config.emitters.empty();
+  if (!exact_cut && saved.evaluations % config.search.batch != 0)
     std::cerr << "tessera: warning: " << o.archive << " stopped inside a batch ("
               << saved.evaluations << " evaluations, batch " << config.search.batch
-              << "); a population search resumed from there differs from one uninterrupted run\n";
+              << "); with this search the resumed run differs from one uninterrupted run (stop "
+                 "at a multiple of the batch for an exact resume)\n";
 
   tbb::global_control threads(tbb::global_control::max_allowed_parallelism,
                               o.threads == 0 ? tbb::info::default_concurrency() : o.threads);
