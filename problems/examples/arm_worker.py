@@ -17,6 +17,10 @@ Protocol
   Flush stdout after every answer, or Tessera waits for a line that sits in your buffer.
 * Answers may come in any order (match them by id); Tessera may send a few requests before
   it reads an answer.
+* Optionally an answer carries "digest": the digest of the genome it was computed from
+  (genome_digest below: FNV-1a 64 over the genome as little-endian doubles, 16 hex digits).
+  Tessera checks it and refuses an answer whose genome is not the one sent under its id, so a
+  worker that mixes up its requests cannot store wrong elites.
 * Numbers: write doubles with full precision (Python's json does: repr() round-trips), so
   that results do not depend on printing. NaN or infinity make the evaluation fail.
 * stdout carries answers only. Diagnostics go to stderr, which Tessera appends to a log file
@@ -41,6 +45,7 @@ the n angles), between -pi^2 and 0. n is the length of the genome.
 """
 
 import json
+import struct
 import sys
 
 import numpy as np
@@ -57,6 +62,14 @@ def evaluate(genome):
     y = float(np.sum(link * np.sin(absolute)))
     fitness = -float(np.var(theta))  # population variance (ddof = 0)
     return fitness, [x, y]
+
+
+def genome_digest(genome):
+    """FNV-1a 64 over the genome as little-endian IEEE doubles, as 16 lowercase hex digits."""
+    h = 0xCBF29CE484222325
+    for byte in struct.pack("<%dd" % len(genome), *genome):
+        h = ((h ^ byte) * 0x100000001B3) & 0xFFFFFFFFFFFFFFFF
+    return "%016x" % h
 
 
 def scene():
@@ -94,8 +107,9 @@ def answer(line):
             reply = {"id": ident, "trace": trace(request["trace"])}
         else:
             fitness, descriptor = evaluate(request["genome"])
-            reply = {"id": ident, "fitness": fitness, "descriptor": descriptor}
-    except (ValueError, TypeError, KeyError) as error:
+            reply = {"id": ident, "fitness": fitness, "descriptor": descriptor,
+                     "digest": genome_digest(request["genome"])}
+    except (ValueError, TypeError, KeyError, struct.error) as error:
         reply = {"id": ident, "error": str(error)}
     return json.dumps(reply)
 

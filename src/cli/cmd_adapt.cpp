@@ -20,6 +20,7 @@
 #include "cli/commands.hpp"
 #include "cli/hardware_caution.hpp"
 #include "cli/format.hpp"
+#include "cli/stop_signal.hpp"
 #include "core/models/adaptation.hpp"
 #include "core/base/errors.hpp"
 #include "eval/problem_factory.hpp"
@@ -342,6 +343,10 @@ int run_adapt(const AdaptOptions& o) {
   }
 
   while (const auto next = loop.next()) {
+    if (stop_signal() != 0) {  // Ctrl-C: stop between trials, the log keeps every trial run
+      loop.abort("interrupted");
+      break;
+    }
     const std::size_t elite = *next;
     const std::vector<double> genome(map.genome.begin() + static_cast<long>(elite * g),
                                      map.genome.begin() + static_cast<long>((elite + 1) * g));
@@ -380,6 +385,7 @@ int run_adapt(const AdaptOptions& o) {
     if (!o.log.empty()) {
       log.stop_reason = loop.stop_reason();
       log.chosen = static_cast<std::int64_t>(loop.best_trial().value_or(0));
+      const CheckpointWriteGuard writing;
       write_trial_log(o.log, log);
     }
   }
@@ -387,7 +393,15 @@ int run_adapt(const AdaptOptions& o) {
   const auto best = loop.best_trial();
   log.stop_reason = loop.stop_reason();
   log.chosen = best ? static_cast<std::int64_t>(*best) : -1;
-  if (!o.log.empty()) write_trial_log(o.log, log);
+  if (!o.log.empty()) {
+    const CheckpointWriteGuard writing;
+    write_trial_log(o.log, log);
+  }
+  if (stop_signal() != 0) {
+    std::cerr << "tessera: interrupted after " << loop.trials().size() << " trials"
+              << (o.log.empty() ? "" : "; the trial log " + o.log + " holds them") << "\n";
+    return stop_exit_code(stop_signal());
+  }
 
   if (o.format == "json") {
     nlohmann::json out;

@@ -6,8 +6,10 @@
 #include <filesystem>
 #include <iostream>
 #include <memory>
+#include <optional>
 
 #include "cli/commands.hpp"
+#include "cli/resource_checks.hpp"
 #include "cli/run_driver.hpp"
 #include "cli/summary.hpp"
 #include "core/base/errors.hpp"
@@ -21,7 +23,7 @@ struct IlluminateOptions {
   std::string run_file;
   std::string out_dir;
   std::uint64_t evaluations = 0;
-  std::int64_t seed = -1;
+  std::optional<std::uint64_t> seed;
   std::size_t threads = 0;
   bool quiet = false;
   bool force = false;
@@ -31,7 +33,7 @@ struct IlluminateOptions {
 int run_illuminate(const IlluminateOptions& o) {
   auto overrides = o.overrides;
   if (o.evaluations > 0) overrides.push_back("search.evaluations=" + std::to_string(o.evaluations));
-  if (o.seed >= 0) overrides.push_back("search.seed=" + std::to_string(o.seed));
+  if (o.seed) overrides.push_back("search.seed=" + std::to_string(*o.seed));
   RunConfig config = load_run_file(o.run_file, overrides);
 
   const fs::path out_dir(o.out_dir);
@@ -43,6 +45,12 @@ int run_illuminate(const IlluminateOptions& o) {
   const bool created = !fs::exists(out_dir, ec);
   fs::create_directories(out_dir, ec);
   if (ec) throw InputError(out_dir.string() + ": cannot create the output folder: " + ec.message());
+  try {
+    check_output_writable(out_dir.string(), archive.string());
+  } catch (...) {
+    if (created) fs::remove(out_dir, ec);
+    throw;
+  }
 
   tbb::global_control threads(tbb::global_control::max_allowed_parallelism,
                               o.threads == 0 ? tbb::info::default_concurrency() : o.threads);
@@ -77,15 +85,18 @@ void register_illuminate(CLI::App& app) {
       "The run file (TOML) names the problem, the descriptor space (grid or CVT), the search\n"
       "and its budget; see problems/*.toml. Checkpoints are written during the run; Ctrl-C\n"
       "stops after the batch in flight and leaves a checkpoint that `tessera resume` continues.");
-  cmd->add_option("RUNFILE", o->run_file, "run file (TOML), e.g. problems/arm.toml")
-      ->required()
-      ->check(CLI::ExistingFile);
+  // Checked by the run-file reader, which says what is wrong in one line.
+  cmd->add_option("RUNFILE", o->run_file, "run file (TOML), e.g. problems/arm.toml")->required();
   cmd->add_option("--out,-o", o->out_dir, "output folder (created if missing)")->required();
   cmd->add_option("--evaluations,-n", o->evaluations,
                   "evaluation budget (overrides search.evaluations)");
-  cmd->add_option("--seed", o->seed, "random seed (overrides search.seed)")->check(CLI::NonNegativeNumber);
-  cmd->add_option("--threads,-j", o->threads, "worker threads (default: all cores); results do "
-                                              "not depend on it");
+  // Seeds are stored as TOML integers, which stop at 2^63 - 1; larger values are refused rather
+  // than clamped.
+  cmd->add_option("--seed", o->seed, "random seed (overrides search.seed)")
+      ->check(CLI::Range(std::uint64_t{0}, std::uint64_t{INT64_MAX}));
+  cmd->add_option("--threads,-j", o->threads,
+                  "worker threads (default: all cores); results do "
+                  "not depend on it");
   cmd->add_flag("--quiet,-q", o->quiet, "no progress line");
   cmd->add_flag("--force", o->force, "overwrite an existing DIR/archive.h5");
   cmd->add_option("--set", o->overrides,

@@ -8,6 +8,7 @@
 #include <memory>
 
 #include "cli/commands.hpp"
+#include "cli/resource_checks.hpp"
 #include "cli/run_driver.hpp"
 #include "cli/summary.hpp"
 #include "core/base/errors.hpp"
@@ -28,7 +29,8 @@ struct ResumeOptions {
 int run_resume(const ResumeOptions& o) {
   const ArchiveSnapshot saved = read_archive_file(o.archive);
   if (!saved.resume)
-    throw InputError(o.archive + ": holds no resume state (written by a command that does not "
+    throw InputError(o.archive +
+                     ": holds no resume state (written by a command that does not "
                      "checkpoint)");
   std::vector<std::string> overrides;
   if (o.evaluations > 0) {
@@ -38,7 +40,18 @@ int run_resume(const ResumeOptions& o) {
     overrides.push_back("search.evaluations=" + std::to_string(o.evaluations));
   }
   const std::string base = fs::absolute(fs::path(o.archive)).parent_path().string();
-  RunConfig config = parse_run_text(saved.config, o.archive + " [stored run file]", base, overrides);
+  check_output_writable(base, "");  // the folder must take the next checkpoint
+  RunConfig config =
+      parse_run_text(saved.config, o.archive + " [stored run file]", base, overrides);
+  // MAP-Elites with its variation emitter stores a batch cut by the budget and completes it
+  // exactly. Population searches score a batch as a whole, and CMA emitters keep the steps they
+  // sampled between asking and learning: for them a cut batch is not completed exactly.
+  const bool exact_cut = saved.resume->algorithm == "map-elites" && config.emitters.empty();
+  if (!exact_cut && saved.evaluations % config.search.batch != 0)
+    std::cerr << "tessera: warning: " << o.archive << " stopped inside a batch ("
+              << saved.evaluations << " evaluations, batch " << config.search.batch
+              << "); with this search the resumed run differs from one uninterrupted run (stop "
+                 "at a multiple of the batch for an exact resume)\n";
 
   tbb::global_control threads(tbb::global_control::max_allowed_parallelism,
                               o.threads == 0 ? tbb::info::default_concurrency() : o.threads);
@@ -62,10 +75,10 @@ int run_resume(const ResumeOptions& o) {
 
 void register_resume(CLI::App& app) {
   auto o = std::make_shared<ResumeOptions>();
-  auto* cmd = app.add_subcommand(
-      "resume",
-      "Continue a checkpointed run in place up to a new total budget.\n"
-      "The result is bit-identical to the same run done without interruption.");
+  auto* cmd =
+      app.add_subcommand("resume",
+                         "Continue a checkpointed run in place up to a new total budget.\n"
+                         "The result is bit-identical to the same run done without interruption.");
   cmd->add_option("ARCHIVE", o->archive, "archive written by illuminate (or a checkpoint of it)")
       ->required();
   cmd->add_option("--evaluations,-n", o->evaluations,

@@ -6,8 +6,9 @@
 
 #include "cli/commands.hpp"
 #include "cli/run_setup.hpp"
-#include "eval/cluster.hpp"
+#include "cli/stop_signal.hpp"
 #include "core/base/errors.hpp"
+#include "eval/cluster.hpp"
 
 namespace {
 
@@ -20,8 +21,18 @@ const char* kAbout =
 }  // namespace
 
 int main(int argc, char** argv) {
-  // Under mpirun every rank runs this binary: ranks 1..N-1 serve evaluations and exit.
+  // First thing: a Ctrl-C even in the first instant must end in a checkpoint or a clean exit.
+  const bool checkpoints = argc > 1 && tessera::cli::command_checkpoints(argv[1]);
+  if (checkpoints) tessera::cli::install_stop_handlers();
+  // Under mpirun every rank runs this binary: ranks 1..N-1 serve evaluations and exit. MPI's
+  // start-up installs handlers and threads of its own: stop signals wait (blocked) meanwhile and
+  // reach ours afterwards.
+  if (checkpoints) tessera::cli::hold_stop_signals(true);
   tessera::cluster::init(&argc, &argv);
+  if (checkpoints) {
+    tessera::cli::install_stop_handlers();
+    tessera::cli::hold_stop_signals(false);
+  }
   // `study` spreads whole runs over the ranks instead: every rank runs its share.
   const bool whole_runs = argc > 1 && std::string(argv[1]) == "study";
   if (tessera::cluster::active() && tessera::cluster::rank() != 0 && !whole_runs)

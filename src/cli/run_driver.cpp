@@ -10,26 +10,25 @@
 #include <string>
 
 #include "cli/format.hpp"
+#include "cli/stop_signal.hpp"
 #include "io/archive_file.hpp"
 
 namespace tessera::cli {
 namespace {
 
-volatile std::sig_atomic_t g_stop_signal = 0;
 char g_crash_message[512] = {0};
-
-void on_stop_signal(int signal) { g_stop_signal = signal; }
 
 // A plugin that crashes takes the process with it; say so in one line, pointing at the intact
 // checkpoint, instead of leaving a bare "Segmentation fault".
 void on_fatal_signal(int signal) {
-  const char* name = signal == SIGSEGV ? "segmentation fault"
+  const char* name = signal == SIGSEGV  ? "segmentation fault"
                      : signal == SIGBUS ? "bus error"
                      : signal == SIGFPE ? "floating-point exception"
-                     : signal == SIGILL ? "illegal instruction" : "abort";
+                     : signal == SIGILL ? "illegal instruction"
+                                        : "abort";
   char line[768];
-  const int n = std::snprintf(line, sizeof line, "tessera: %s during the run %s\n", name,
-                              g_crash_message);
+  const int n =
+      std::snprintf(line, sizeof line, "tessera: %s during the run %s\n", name, g_crash_message);
   if (n > 0) (void)!::write(STDERR_FILENO, line, static_cast<std::size_t>(n));
   std::_Exit(3);
 }
@@ -39,11 +38,7 @@ void install_handlers(const PreparedRun& run, const std::string& archive_path) {
                 "(problem '%s' from %s); the last checkpoint %s is intact",
                 run.problem->info().name.c_str(), run.problem->info().origin.c_str(),
                 archive_path.c_str());
-  struct sigaction stop {};
-  stop.sa_handler = on_stop_signal;
-  sigemptyset(&stop.sa_mask);
-  sigaction(SIGINT, &stop, nullptr);
-  sigaction(SIGTERM, &stop, nullptr);
+  install_stop_handlers();
   struct sigaction fatal {};
   fatal.sa_handler = on_fatal_signal;
   sigemptyset(&fatal.sa_mask);
@@ -58,12 +53,13 @@ class ProgressLine {
     if (!enabled_) return;
     if (!force && elapsed - last_ < 0.2) return;
     last_ = elapsed;
-    const double rate = elapsed > 0 ? static_cast<double>(f.evaluations - start_evals) / elapsed : 0;
+    const double rate =
+        elapsed > 0 ? static_cast<double>(f.evaluations - start_evals) / elapsed : 0;
     const double left = rate > 0 ? static_cast<double>(f.budget - f.evaluations) / rate : 0;
     std::string line = "  " + with_thousands(f.evaluations) + "/" + with_thousands(f.budget) +
-                       " evaluations  " + human_rate(rate) + "/s  coverage " +
-                       percent(f.coverage) + "  QD-score " + short_number(f.qd_score) +
-                       "  best " + short_number(f.max_fitness) + "  left " + duration(left);
+                       " evaluations  " + human_rate(rate) + "/s  coverage " + percent(f.coverage) +
+                       "  QD-score " + short_number(f.qd_score) + "  best " +
+                       short_number(f.max_fitness) + "  left " + duration(left);
     std::fprintf(stderr, "\r%-100s", line.c_str());
     std::fflush(stderr);
     shown_ = true;
@@ -81,7 +77,9 @@ class ProgressLine {
 }  // namespace
 
 void write_checkpoint(const PreparedRun& run, const std::string& path) {
-  write_archive_file(path, snapshot_of(run));
+  const ArchiveSnapshot snapshot = snapshot_of(run);
+  const CheckpointWriteGuard writing;
+  write_archive_file(path, snapshot);
 }
 
 int drive_run(PreparedRun& run, const DriveOptions& options) {
@@ -95,15 +93,17 @@ int drive_run(PreparedRun& run, const DriveOptions& options) {
   const auto& every = run.config.checkpoint;
   ProgressLine progress(!options.quiet && ::isatty(STDERR_FILENO));
 
-  while (!search.finished() && g_stop_signal == 0) {
+  while (!search.finished() && stop_signal() == 0) {
     search.step();
     const auto now = clock::now();
     const double elapsed = std::chrono::duration<double>(now - start).count();
     progress.update(search.figures(), start_evals, elapsed, false);
-    const bool by_count = every.every_evaluations > 0 &&
-                          search.counters().evaluations - checkpoint_evals >= every.every_evaluations;
-    const bool by_time = every.every_seconds > 0 &&
-                         std::chrono::duration<double>(now - last_checkpoint).count() >= every.every_seconds;
+    const bool by_count =
+        every.every_evaluations > 0 &&
+        search.counters().evaluations - checkpoint_evals >= every.every_evaluations;
+    const bool by_time =
+        every.every_seconds > 0 &&
+        std::chrono::duration<double>(now - last_checkpoint).count() >= every.every_seconds;
     if ((by_count || by_time) && !search.finished()) {
       write_checkpoint(run, options.archive_path);
       checkpoint_evals = search.counters().evaluations;
@@ -114,11 +114,11 @@ int drive_run(PreparedRun& run, const DriveOptions& options) {
                   std::chrono::duration<double>(clock::now() - start).count(), true);
   progress.finish();
   write_checkpoint(run, options.archive_path);
-  if (g_stop_signal != 0 && !search.finished()) {
+  if (stop_signal() != 0 && !search.finished()) {
     std::cerr << "tessera: interrupted after " << with_thousands(search.counters().evaluations)
               << " evaluations; checkpoint written to " << options.archive_path
               << "\n  continue with: tessera resume " << options.archive_path << "\n";
-    return g_stop_signal == SIGINT ? 130 : 143;
+    return stop_exit_code(stop_signal());
   }
   return 0;
 }

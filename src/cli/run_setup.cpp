@@ -1,7 +1,9 @@
 #include "cli/run_setup.hpp"
 
+#include <filesystem>
 #include <stdexcept>
 
+#include "cli/resource_checks.hpp"
 #include "core/base/errors.hpp"
 #include "core/search/emitter_mixture.hpp"
 #include "core/search/map_elites.hpp"
@@ -19,18 +21,22 @@ std::shared_ptr<const DescriptorSpace> build_space(const RunConfig& config, cons
   const Bounds& bounds = info.descriptor;
   if (config.space.kind == "grid") {
     auto resolution = config.space.resolution;
-    if (resolution.size() == 1 && bounds.size() > 1) resolution.assign(bounds.size(), resolution[0]);
+    if (resolution.size() == 1 && bounds.size() > 1)
+      resolution.assign(bounds.size(), resolution[0]);
     if (resolution.size() != bounds.size())
-      throw InputError(config.source + ": key 'space.resolution': " +
-                       std::to_string(resolution.size()) + " values for the " +
-                       std::to_string(bounds.size()) + " descriptor dimensions of '" + info.name +
-                       "'");
+      throw InputError(config.source +
+                       ": key 'space.resolution': " + std::to_string(resolution.size()) +
+                       " values for the " + std::to_string(bounds.size()) +
+                       " descriptor dimensions of '" + info.name + "'");
     try {
       return std::make_shared<GridSpace>(bounds, info.descriptor_names, resolution);
     } catch (const std::invalid_argument& e) {
       throw InputError(config.source + ": key 'space.resolution': " + e.what());
     }
   }
+  std::error_code ec;
+  const bool cached = std::filesystem::exists(cvt_cache_path(bounds, config.space.cvt), ec);
+  check_cvt_build(config.space.cvt, bounds.size(), cached, config.source);
   auto centroids = load_or_compute_cvt(bounds, config.space.cvt, &note);
   return std::make_shared<CvtSpace>(bounds, info.descriptor_names, std::move(centroids));
 }
@@ -60,6 +66,7 @@ std::shared_ptr<const StartGenomes> start_genomes(const RunConfig& config, const
 
 PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string& log_path,
                         const ArchiveSnapshot* saved) {
+  check_threads(threads);
   PreparedRun run;
   config.problem.log_path = log_path;
   run.problem = open_problem(config.problem);  // its errors name the run file already
@@ -83,8 +90,8 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
   if (!config.start_from.empty()) config.search.start = start_genomes(config, info);
   EvaluateFn evaluate;
   if (cluster::active()) {
-    evaluate = cluster::distributed_evaluator(
-        {config.resolved_toml, config.base_dir, log_path, threads});
+    evaluate =
+        cluster::distributed_evaluator({config.resolved_toml, config.base_dir, log_path, threads});
   } else {
     run.evaluator = std::make_shared<ThreadEvaluator>(run.problem, threads);
     auto evaluator = run.evaluator;

@@ -29,6 +29,7 @@
 #include <vector>
 
 #include "core/base/errors.hpp"
+#include "eval/genome_digest.hpp"
 
 extern char** environ;
 
@@ -201,7 +202,7 @@ class WorkerPool {
     std::vector<Request> requests(count);
     {
       std::unique_lock lock(mutex_);
-      if (!fatal_.empty()) throw std::runtime_error(fatal_);
+      if (!fatal_.empty()) throw InputError(fatal_);
       for (std::size_t k = 0; k < count; ++k) {
         Request& r = requests[k];
         const std::size_t i = first + k;
@@ -217,7 +218,8 @@ class WorkerPool {
     wake();
     std::unique_lock lock(mutex_);
     done_.wait(lock, [&] { return job.remaining == 0; });
-    if (!fatal_.empty()) throw std::runtime_error(fatal_);
+    // A worker command that cannot run is the run file's fault: one line, exit 2.
+    if (!fatal_.empty()) throw InputError(fatal_);
   }
 
   // Sends one optional message (its fields besides the id) and waits for the answer object;
@@ -362,11 +364,14 @@ class WorkerPool {
   }
 
   // Counts a failure reason and reports the first of each kind on tessera's stderr.
+  // Crashes before any answer are not shown: a worker command that cannot run at all ends the
+  // run with one line saying so instead.
   void note(const std::string& reason, const std::string& detail) {
     bool first = false;
     {
       std::lock_guard lock(mutex_);
-      first = counts_[reason]++ == 0;
+      ++counts_[reason];
+      first = (reason != "crash" || answered_) && shown_.insert(reason).second;
     }
     if (first)
       std::fprintf(stderr, "tessera: worker '%s': %s (%s); further ones are counted, not shown\n",
@@ -393,7 +398,8 @@ class WorkerPool {
     const int status = stop(worker, std::chrono::milliseconds(100), true);
     const std::string detail = how + ", " + describe_status(status);
     if (worker.held.empty()) {
-      note_event("worker exited while idle and was restarted", detail);
+      // Before any answer this is a command that cannot run; the fatal error says so.
+      if (answered_) note_event("worker exited while idle and was restarted", detail);
     }
     std::deque<Request*> unsent;
     for (Request* r : worker.held) {
@@ -445,7 +451,7 @@ class WorkerPool {
                    detail.c_str());
   }
 
-  // Gives up on the pool: every waiting caller gets std::runtime_error(message).
+  // Gives up on the pool: every waiting caller gets InputError(message).
   void set_fatal(const std::string& message) {
     {
       std::lock_guard lock(mutex_);
@@ -563,12 +569,22 @@ class WorkerPool {
     worker.held.erase(it);
     worker.progress = Clock::now();
     deaths_since_answer_ = 0;
+    answered_ = true;
 
     if (r->reply != nullptr) {
       *r->reply = std::move(answer);
       *r->valid = 1;
       complete(r);
       return;
+    }
+    // Optional: the digest of the genome the worker evaluated; a mismatch means the answer
+    // belongs to another request (ids swapped) and is not used.
+    if (const auto digest = answer.find("digest"); digest != answer.end()) {
+      if (!digest->is_string() ||
+          digest->get<std::string>() != genome_digest(r->genome, genome_size_)) {
+        fail(r, "wrong genome digest", quoted(line));
+        return;
+      }
     }
     if (answer.contains("error")) {
       const auto& text = answer["error"];
@@ -719,6 +735,7 @@ class WorkerPool {
   std::deque<Request*> queue_;
   std::deque<Request*> suspects_;
   std::size_t deaths_since_answer_ = 0;
+  bool answered_ = false;  // some worker has answered a request
   std::set<std::string> events_;
 
   // Shared with callers, under mutex_.
@@ -729,6 +746,7 @@ class WorkerPool {
   bool stop_ = false;
   std::string fatal_;
   std::map<std::string, std::uint64_t> counts_;
+  std::set<std::string> shown_;  // reasons already reported on stderr
 
   std::thread thread_;
 };

@@ -4,6 +4,7 @@
 // file. Each request is one line on a worker's stdin, each answer one line on its stdout:
 //   request  {"id": N, "genome": [g0, g1, ...]}
 //   answer   {"id": N, "fitness": F, "descriptor": [d0, d1, ...]}   or   {"id": N, "error": "text"}
+//            either may carry "digest": the genome's digest (eval/genome_digest.hpp), checked
 // Optional (docs/process-protocol.md), outside runs only: {"id": N, "scene": true} and
 // {"id": N, "trace": [g0, ...]}, answered by {"id": N, "scene" | "trace": {"items": [...]}}; any
 // other outcome means the worker does not serve them, and never counts as a failure.
@@ -24,6 +25,8 @@
 //   "not finite"               a NaN or infinite fitness or descriptor value
 //   "wrong descriptor length"  a descriptor without exactly D numbers
 //   "worker error"             an {"error": ...} answer
+//   "wrong genome digest"      an answer whose optional "digest" is not that of the genome
+//                              sent under its id (eval/genome_digest.hpp): ids were swapped
 // A line that cannot be matched to a request it holds is charged to the worker's oldest request,
 // since the protocol gives one line per request. The timeout clock of a worker runs while it
 // holds requests and restarts at each answer, so a freshly started worker's first answer must

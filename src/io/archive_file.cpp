@@ -27,6 +27,7 @@
 #include "core/base/errors.hpp"
 #include "core/archive/space.hpp"
 #include "io/chunk_codec.hpp"
+#include "io/fletcher32.hpp"
 #include "io/snapshot_check.hpp"
 
 namespace tessera {
@@ -162,6 +163,11 @@ Handle access_properties() {
   // supporting locks: archives are replaced by rename, never written in place.
   ok(H5Pset_fclose_degree(fapl.get(), H5F_CLOSE_STRONG), "H5Pset_fclose_degree");
   ok(H5Pset_file_locking(fapl.get(), false, true), "H5Pset_file_locking");
+  // The 1.10 file format checksums its metadata (superblock, object headers, B-trees, heaps), so
+  // a damaged attribute table or chunk index is refused instead of read. h5py and HDF5 >= 1.10
+  // read it.
+  ok(H5Pset_libver_bounds(fapl.get(), H5F_LIBVER_V110, H5F_LIBVER_LATEST),
+     "H5Pset_libver_bounds");
   return fapl;
 }
 
@@ -208,10 +214,19 @@ Handle create_dataset(hid_t parent, const std::string& name, hid_t type, std::si
   ok(H5Pset_chunk(props.get(), rank, chunk), "H5Pset_chunk");
   ok(H5Pset_shuffle(props.get()), "H5Pset_shuffle");
   ok(H5Pset_deflate(props.get(), kDeflateLevel), "H5Pset_deflate");
+  // Damaged data is refused, not read (variable-length strings cannot carry the checksum).
+  if (ok(H5Tis_variable_str(type), "H5Tis_variable_str") == 0)
+    ok(H5Pset_fletcher32(props.get()), "H5Pset_fletcher32");
   const Handle space = space_handle(H5Screate_simple(rank, dims, max_dims), "H5Screate_simple");
   return dataset_handle(
       H5Dcreate2(parent, name.c_str(), type, space.get(), H5P_DEFAULT, props.get(), H5P_DEFAULT),
       "H5Dcreate2");
+}
+
+// The Fletcher-32 filter's trailer: the checksum of the chunk's bytes, little-endian.
+void append_fletcher32(std::vector<unsigned char>& chunk) {
+  const std::uint32_t sum = fletcher32(chunk.data(), chunk.size());
+  for (int shift = 0; shift < 32; shift += 8) chunk.push_back(static_cast<unsigned char>(sum >> shift));
 }
 
 // Compresses the chunks of `rows` rows on all threads, a batch at a time (bounded memory), and
@@ -239,6 +254,7 @@ void write_chunks(hid_t ds, const unsigned char* data, std::uint64_t rows, std::
       }
     });
     for (std::uint64_t k = 0; k < count; ++k) {
+      append_fletcher32(encoded[k]);
       const hsize_t offset[2] = {(first + k) * chunk_rows, 0};
       ok(H5Dwrite_chunk(ds, H5P_DEFAULT, 0, offset, encoded[k].size(), encoded[k].data()),
          "H5Dwrite_chunk");
@@ -348,6 +364,11 @@ void write_contents(hid_t file, const ArchiveSnapshot& s) {
     const Handle resume = create_group(file, "resume");
     write_string_attr(resume.get(), "algorithm", s.resume->algorithm);
     write_scalar_attr<std::uint64_t>(resume.get(), "next_batch", s.resume->next_batch);
+    // The counters' names, so that a reader opens each attribute by name and never has to walk
+    // the attribute table (which a damaged file can make unsafe to walk).
+    std::string names;
+    for (const auto& [name, value] : s.resume->counters) names.append(name).append("\n");
+    write_string_attr(resume.get(), "counter_names", names);
     const Handle counters = create_group(resume.get(), "counters");
     for (const auto& [name, value] : s.resume->counters)
       write_scalar_attr<std::uint64_t>(counters.get(), name.c_str(), value);
@@ -470,6 +491,8 @@ void Reader::check_file_on_disk() {
   const fs::file_status st = fs::status(path_, ec);
   if (!fs::exists(st)) fail("no such file");
   if (fs::is_directory(st)) fail("is a directory, not an archive file");
+  // Opening a named pipe blocks until a writer appears; devices and sockets are no archives.
+  if (!fs::is_regular_file(st)) fail("is not a regular file (a named pipe, device or socket)");
   std::FILE* f = std::fopen(path_.c_str(), "rb");
   if (!f) fail(std::string("cannot be read: ") + std::strerror(errno));
   std::fclose(f);
@@ -561,13 +584,16 @@ bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
   // Only the layout tessera writes: whole-row chunks through shuffle then deflate, in the
   // memory's own byte order. Anything else goes through HDF5's ordinary read.
   if (std::endian::native != std::endian::little) return false;
-  if (H5Pget_layout(props) != H5D_CHUNKED || H5Pget_nfilters(props) != 2) return false;
+  const int filters = H5Pget_nfilters(props);
+  if (H5Pget_layout(props) != H5D_CHUNKED || (filters != 2 && filters != 3)) return false;
   const auto filter = [&](unsigned index) {
     unsigned flags = 0, config = 0, values[8];
     std::size_t count = 8;  // in: room in `values`; out: how many the filter has
     return H5Pget_filter2(props, index, &flags, &count, values, 0, nullptr, &config);
   };
   if (filter(0) != H5Z_FILTER_SHUFFLE || filter(1) != H5Z_FILTER_DEFLATE) return false;
+  const bool checksum = filters == 3;
+  if (checksum && filter(2) != H5Z_FILTER_FLETCHER32) return false;
   const Handle type = type_handle(H5Dget_type(ds.handle.get()), "H5Dget_type");
   if (ok(H5Tequal(type.get(), memory_type), "H5Tequal") <= 0) return false;
   const Handle space = space_handle(H5Dget_space(ds.handle.get()), "H5Dget_space");
@@ -594,12 +620,18 @@ bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
       if (size > file_size_) fail(ds.name + " has a chunk larger than the file");
       // A deflate stream never exceeds zlib's worst case (stored blocks); a larger claim is not
       // a chunk this reader knows how to expand, and must not size its buffers.
-      if (size > max_deflated_bytes(chunk_bytes)) return false;
+      if (size > max_deflated_bytes(chunk_bytes) + (checksum ? 4 : 0)) return false;
       stored[k].resize(size);
       std::uint32_t mask = 0;
       ok(H5Dread_chunk(ds.handle.get(), H5P_DEFAULT, offset, &mask, stored[k].data()),
          "H5Dread_chunk");
       if (mask != 0) return false;  // a filter was skipped for this chunk
+      if (checksum) {
+        if (!fletcher32_matches(stored[k].data(), stored[k].size()))
+          fail("truncated or damaged HDF5 file (a chunk of " + ds.name +
+               " fails its Fletcher-32 checksum)");
+        stored[k].resize(stored[k].size() - 4);
+      }
     }
     std::atomic<bool> damaged{false};
     tbb::parallel_for(std::uint64_t{0}, n, [&](std::uint64_t k) {
@@ -907,24 +939,13 @@ void Reader::read_history(ArchiveSnapshot& s) {
   for (std::size_t i = 0; i < t; ++i) s.history[i] = HistoryRow{e[i], c[i], q[i], m[i]};
 }
 
-// Names of a group's links (or of an object's attributes), at most `limit` + 1 of them.
-std::vector<std::string> attribute_names(hid_t obj, std::size_t limit) {
-  struct Collect {
-    std::vector<std::string> names;
-    std::size_t limit;
-  } collect{{}, limit};
-  hsize_t index = 0;
-  ok(H5Aiterate2(
-         obj, H5_INDEX_NAME, H5_ITER_INC, &index,
-         [](hid_t, const char* name, const H5A_info_t*, void* data) -> herr_t {
-           auto* c = static_cast<Collect*>(data);
-           c->names.emplace_back(name);
-           return c->names.size() > c->limit ? 1 : 0;
-         },
-         &collect),
-     "H5Aiterate2");
-  return collect.names;
-}
+// Counters an archive without a /resume counter_names attribute may hold: those tessera wrote
+// before the attribute existed.
+const char* const kEarlyCounterNames[] = {
+    "invalid",          "out_of_bounds",       "new_cells",
+    "improvements",     "failed:crash",        "failed:timeout",
+    "failed:malformed answer", "failed:unknown id", "failed:not finite",
+    "failed:wrong descriptor length", "failed:worker error", "failed:wrong genome digest"};
 
 std::vector<std::string> link_names(hid_t group, std::size_t limit) {
   H5G_info_t info;
@@ -952,11 +973,24 @@ void Reader::read_resume(ArchiveSnapshot& s) {
   state.algorithm = string_attr(resume.get(), "/resume", "algorithm");
   state.next_batch = uint_attr(resume.get(), "/resume", "next_batch");
   const Handle counters = group("/resume/counters");
-  const auto counter_names = attribute_names(counters.get(), kMaxResumeEntries);
-  if (counter_names.size() > kMaxResumeEntries)
-    fail("/resume/counters has more than " + std::to_string(kMaxResumeEntries) + " entries");
-  for (const auto& name : counter_names)
-    state.counters[name] = uint_attr(counters.get(), "/resume/counters", name.c_str());
+  std::vector<std::string> counter_names;
+  if (ok(H5Aexists(resume.get(), "counter_names"), "H5Aexists") > 0) {
+    const std::string names = string_attr(resume.get(), "/resume", "counter_names");
+    for (std::size_t start = 0, end; (end = names.find('\n', start)) != std::string::npos;
+         start = end + 1) {
+      counter_names.push_back(names.substr(start, end - start));
+      if (counter_names.size() > kMaxResumeEntries)
+        fail("/resume/counters has more than " + std::to_string(kMaxResumeEntries) + " entries");
+      if (!valid_resume_name(counter_names.back()))
+        fail("/resume counter_names holds an unusable name");
+    }
+    for (const auto& name : counter_names)
+      state.counters[name] = uint_attr(counters.get(), "/resume/counters", name.c_str());
+  } else {
+    for (const char* name : kEarlyCounterNames)
+      if (ok(H5Aexists(counters.get(), name), "H5Aexists") > 0)
+        state.counters[name] = uint_attr(counters.get(), "/resume/counters", name);
+  }
   const Handle arrays = group("/resume/arrays");
   const auto array_names = link_names(arrays.get(), kMaxResumeEntries);
   if (array_names.size() > kMaxResumeEntries)

@@ -2,6 +2,7 @@
 
 #include <toml++/toml.h>
 
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
@@ -387,7 +388,12 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
   if (config.search.batch > (1u << 24))
     checker.fail(search["batch"].node(), "search.batch", "must be at most 16777216");
   if (!search.contains("initial")) search.insert("initial", static_cast<std::int64_t>(config.search.batch));
-  config.search.initial = static_cast<std::uint64_t>(positive_int(search, "search", "initial", 0, checker));
+  // 0 once silently meant "one batch"; a variation step needs at least one random genome first.
+  if (search["initial"].value<std::int64_t>() == 0)
+    checker.fail(search["initial"].node(), "search.initial",
+                 "must be at least 1 (random genomes before variation starts; leave the key out "
+                 "for one batch)");
+  config.search.initial = static_cast<std::uint64_t>(positive_int(search, "search", "initial", 1, checker));
   config.search.seed = static_cast<std::uint64_t>(positive_int(search, "search", "seed", 0, checker));
   try {
     config.variation.op = parse_variation_operator(get_str(search, "operator", "iso-line-dd"));
@@ -419,6 +425,13 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
   }
   config.population.tournament =
       static_cast<std::size_t>(positive_int(search, "search", "tournament", 1, checker));
+  // Each parent costs `tournament` draws: a huge value makes a batch that never ends. Beyond
+  // the population size (the batch) more draws add no selection pressure worth having.
+  if (config.algorithm != "map-elites" &&
+      config.population.tournament > std::max<std::size_t>(config.search.batch, 3))
+    checker.fail(search["tournament"].node(), "search.tournament",
+                 "must be at most the population size, search.batch = " +
+                     std::to_string(config.search.batch));
   parse_novelty(section_of(root, "novelty"), checker, config.population.novelty);
   for (const char* key : {"sigma_iso", "sigma_line", "sigma"}) {
     const double v = get_num(search, key, 0.0);
@@ -474,6 +487,14 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
 }
 
 RunConfig load_run_file(const std::string& path, const std::vector<std::string>& overrides) {
+  // Refused before opening: a folder reads as empty text, a named pipe blocks the open.
+  std::error_code ec;
+  const auto status = fs::status(path, ec);
+  if (status.type() == fs::file_type::not_found) throw InputError(path + ": no such run file");
+  if (status.type() == fs::file_type::directory)
+    throw InputError(path + ": is a folder, not a run file");
+  if (!ec && status.type() != fs::file_type::regular)
+    throw InputError(path + ": is not a regular file (a run file is a TOML file)");
   std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError(path + ": cannot open the run file");
   std::ostringstream text;

@@ -1,9 +1,16 @@
 #include "io/snapshot_check.hpp"
 
+#include <toml++/toml.h>
+
+#include <algorithm>
 #include <cmath>
+#include <memory>
+#include <numeric>
+#include <stdexcept>
 #include <string>
 #include <vector>
 
+#include "core/archive/cvt.hpp"
 #include "core/archive/space.hpp"
 
 namespace tessera {
@@ -162,11 +169,132 @@ std::optional<std::string> history_fault(const ArchiveSnapshot& s) {
   return std::nullopt;
 }
 
+// Every centroid inside the descriptor box and no two alike: Lloyd centroids are means of
+// samples of the box, and two equal centroids would make one cell unreachable.
+std::optional<std::string> centroids_fault(const ArchiveSnapshot& s) {
+  const std::size_t d = s.descriptor_size();
+  const std::size_t k = s.centroids.size() / d;
+  for (std::size_t i = 0; i < k; ++i)
+    for (std::size_t j = 0; j < d; ++j) {
+      const double v = s.centroids[i * d + j];
+      if (v < s.descriptor_bounds.lower[j] || v > s.descriptor_bounds.upper[j])
+        return "/space/centroids[" + str(i) + ", " + str(j) + "] lies outside /space bounds";
+    }
+  std::vector<std::size_t> order(k);
+  std::iota(order.begin(), order.end(), std::size_t{0});
+  const double* c = s.centroids.data();
+  auto row_less = [&](std::size_t a, std::size_t b) {
+    return std::lexicographical_compare(c + a * d, c + a * d + d, c + b * d, c + b * d + d);
+  };
+  std::sort(order.begin(), order.end(), row_less);
+  for (std::size_t i = 1; i < k; ++i)
+    if (std::equal(c + order[i - 1] * d, c + order[i - 1] * d + d, c + order[i] * d))
+      return "/space/centroids rows " + str(std::min(order[i - 1], order[i])) + " and " +
+             str(std::max(order[i - 1], order[i])) + " are the same point";
+  return std::nullopt;
+}
+
+// Each elite's genome within /genome bounds (children are clipped to them) and its descriptor
+// within the space and mapped to the elite's own cell (descriptors are stored clamped).
+std::optional<std::string> placement_fault(const ArchiveSnapshot& s) {
+  const std::size_t n = s.elite_count();
+  const std::size_t g = s.genome_size();
+  const std::size_t d = s.descriptor_size();
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t j = 0; j < g; ++j) {
+      const double v = s.genome[i * g + j];
+      if (v < s.genome_bounds.lower[j] || v > s.genome_bounds.upper[j])
+        return "/elites/genome[" + str(i) + ", " + str(j) + "] lies outside /genome bounds";
+    }
+  if (s.space_kind != "grid" && s.space_kind != "cvt") return std::nullopt;
+  std::unique_ptr<DescriptorSpace> space;
+  try {
+    if (s.space_kind == "grid")
+      space = std::make_unique<GridSpace>(s.descriptor_bounds, s.descriptor_names, s.resolution);
+    else
+      space = std::make_unique<CvtSpace>(s.descriptor_bounds, s.descriptor_names, s.centroids);
+  } catch (const std::exception& e) {
+    return std::string("/space: ") + e.what();
+  }
+  for (std::size_t i = 0; i < n; ++i) {
+    const std::span<const double> x(s.descriptor.data() + i * d, d);
+    for (std::size_t j = 0; j < d; ++j)
+      if (x[j] < s.descriptor_bounds.lower[j] || x[j] > s.descriptor_bounds.upper[j])
+        return "/elites/descriptor[" + str(i) + ", " + str(j) + "] lies outside /space bounds";
+    const std::int64_t cell = space->cell_of(x).cell;
+    if (cell != s.cell[i])
+      return "/elites/descriptor[" + str(i) + "] lies in cell " + std::to_string(cell) +
+             ", not in its cell " + std::to_string(s.cell[i]);
+  }
+  return std::nullopt;
+}
+
+// /history and /resume tell the same story: evaluations only grow, the last row is the root
+// evaluations, a counter of candidates never exceeds them, and every batch left one row (a
+// batch cut by the budget leaves its row before the batch index moves on).
+std::optional<std::string> progress_fault(const ArchiveSnapshot& s) {
+  for (std::size_t t = 1; t < s.history.size(); ++t)
+    if (s.history[t].evaluations <= s.history[t - 1].evaluations)
+      return "/history/evaluations[" + str(t) + "] does not exceed the row before";
+  if (!s.history.empty() && s.history.back().evaluations != s.evaluations)
+    return "/history ends at " + str(s.history.back().evaluations) +
+           " evaluations but the archive says " + str(s.evaluations);
+  if (!s.resume) return std::nullopt;
+  const ResumeState& r = *s.resume;
+  for (const auto& [name, value] : r.counters) {
+    const bool counts_candidates = name == "invalid" || name == "out_of_bounds" ||
+                                   name == "new_cells" || name == "improvements" ||
+                                   name.rfind("failed:", 0) == 0;
+    if (counts_candidates && value > s.evaluations)
+      return "/resume/counters " + name + " = " + str(value) + " exceeds the " +
+             str(s.evaluations) + " evaluations";
+  }
+  const std::uint64_t rows = s.history.size();
+  if (r.next_batch > rows || r.next_batch + 1 < rows)
+    return "/resume next_batch = " + str(r.next_batch) + " does not fit the " + str(rows) +
+           " rows of /history";
+  return std::nullopt;
+}
+
+// The stored run file's [space] must describe /space (a grid's resolution, a CVT's cell count);
+// resume rebuilds the search from both.
+std::optional<std::string> config_fault(const ArchiveSnapshot& s) {
+  if (s.space_kind != "grid" && s.space_kind != "cvt") return std::nullopt;
+  toml::table config;
+  try {
+    config = toml::parse(s.config);
+  } catch (const toml::parse_error&) {
+    return std::nullopt;  // commands that need the run file say so when they parse it
+  }
+  const toml::table* space = config["space"].as_table();
+  if (!space) return std::nullopt;
+  const std::string kind = (*space)["kind"].value_or(std::string("grid"));
+  if (kind != s.space_kind)
+    return "the stored run file has space.kind \"" + kind + "\" but /space is a " + s.space_kind;
+  const std::size_t d = s.descriptor_size();
+  if (kind == "grid") {
+    std::vector<std::int64_t> resolution;
+    if (const auto* array = (*space)["resolution"].as_array()) {
+      for (const auto& e : *array) resolution.push_back(e.value<std::int64_t>().value_or(0));
+    } else if (auto one = (*space)["resolution"].value<std::int64_t>()) {
+      resolution.push_back(*one);
+    }
+    if (resolution.size() == 1 && d > 1) resolution.assign(d, resolution[0]);
+    if (!resolution.empty() && resolution != s.resolution)
+      return "the stored run file's space.resolution differs from /space/resolution";
+  } else if (auto cells = (*space)["cells"].value<std::int64_t>()) {
+    if (static_cast<std::uint64_t>(*cells) * d != s.centroids.size())
+      return "the stored run file has space.cells = " + std::to_string(*cells) +
+             " but /space/centroids has " + str(s.centroids.size() / d) + " rows";
+  }
+  return std::nullopt;
+}
+
 }  // namespace
 
 bool valid_resume_name(const std::string& name) {
   return !name.empty() && name != "." && name.find('/') == std::string::npos &&
-         name.find('\0') == std::string::npos;
+         name.find('\0') == std::string::npos && name.find('\n') == std::string::npos;
 }
 
 std::optional<std::string> snapshot_fault(const ArchiveSnapshot& s) {
@@ -186,6 +314,11 @@ std::optional<std::string> snapshot_fault(const ArchiveSnapshot& s) {
     for (const auto& [name, values] : s.resume->arrays)
       if (!valid_resume_name(name)) return "/resume/arrays has an unusable name \"" + name + "\"";
   }
+  if (s.space_kind == "cvt")
+    if (auto f = centroids_fault(s)) return f;
+  if (auto f = placement_fault(s)) return f;
+  if (auto f = progress_fault(s)) return f;
+  if (auto f = config_fault(s)) return f;
   return std::nullopt;
 }
 

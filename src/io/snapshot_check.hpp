@@ -1,7 +1,9 @@
-// Consistency of an ArchiveSnapshot against the archive format (docs/archive-format.md): shapes
-// that must agree, values that must be finite, cells in range and never shared. The writer checks
-// before it touches the disk; the reader checks what it read. Sizes are checked again, before
-// anything is allocated, by the reader itself (archive_file.cpp).
+// Consistency of an ArchiveSnapshot against the archive format (docs/archive-format.md): shapes that
+// must agree, values that must be finite, cells in range and never shared, and the invariants
+// between parts: descriptors in their cells, genomes within bounds, distinct CVT centroids,
+// history and resume counters that agree, a stored run file that describes /space. The writer
+// checks before it touches the disk; the reader checks what it read. Sizes are checked again,
+// before anything is allocated, by the reader itself (archive_file.cpp).
 #pragma once
 
 #include <cstddef>
@@ -30,7 +32,8 @@ std::optional<std::string> snapshot_fault(const ArchiveSnapshot& snapshot);
 // The same for the /space part alone (kind, bounds, names, resolution or centroids).
 std::optional<std::string> space_fault(const ArchiveSnapshot& snapshot);
 
-// True when `name` can be an HDF5 link or attribute name of /resume (non-empty, no '/', not ".").
+// True when `name` can be an HDF5 link or attribute name of /resume (non-empty, no '/', no
+// newline, not ".").
 bool valid_resume_name(const std::string& name);
 
 }  // namespace tessera

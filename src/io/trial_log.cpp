@@ -7,6 +7,8 @@
 #include <algorithm>
 #include <cerrno>
 #include <cstdio>
+#include <csignal>
+#include <cstdlib>
 #include <cstring>
 #include <filesystem>
 #include <stdexcept>
@@ -107,6 +109,25 @@ void write_contents(H5::H5File& file, const TrialLog& log) {
 
 }  // namespace
 
+namespace {
+
+// Temporary files of writers that no longer run (killed mid-write) are removed, so a log
+// written after a kill -9 leaves nothing behind.
+void remove_dead_temporaries(const fs::path& folder, const std::string& prefix) {
+  std::error_code ec;
+  for (const auto& entry : fs::directory_iterator(folder, ec)) {
+    const std::string name = entry.path().filename().string();
+    if (name.rfind(prefix, 0) != 0) continue;
+    const std::string digits = name.substr(prefix.size());
+    if (digits.empty() || digits.find_first_not_of("0123456789") != std::string::npos) continue;
+    const long pid = std::strtol(digits.c_str(), nullptr, 10);
+    if (pid > 0 && ::kill(static_cast<pid_t>(pid), 0) != 0 && errno == ESRCH)
+      fs::remove(entry.path(), ec);
+  }
+}
+
+}  // namespace
+
 void write_trial_log(const std::string& path, const TrialLog& log) {
   const fs::path target(path);
   if (target.filename().empty())
@@ -116,6 +137,7 @@ void write_trial_log(const std::string& path, const TrialLog& log) {
   const fs::path folder = target.has_parent_path() ? target.parent_path() : fs::path(".");
   const fs::path temp =
       folder / ("." + target.filename().string() + ".tmp-" + std::to_string(::getpid()));
+  remove_dead_temporaries(folder, "." + target.filename().string() + ".tmp-");
   H5::Exception::dontPrint();
   try {
     const int fd = ::open(temp.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0666);

@@ -8,6 +8,7 @@
 # Chromium is required: without it this test fails (scripts/setup-deps installs it).
 # ctest-timeout: 900
 import os
+import re
 import shutil
 import subprocess
 import sys
@@ -154,6 +155,10 @@ with tempfile.TemporaryDirectory() as tmp:
     with h5py.File(cvt, "r") as src, h5py.File(three, "w") as dst:
         for key, value in src.attrs.items():
             dst.attrs[key] = value
+        # The stored run file must describe /space: 200 cells, no longer the source's.
+        config = src.attrs["config"]
+        config = config.decode() if isinstance(config, bytes) else config
+        dst.attrs["config"] = re.sub(r"(?m)^cells = \d+", "cells = 200", config)
         src.copy(src["genome"], dst, "genome")
         src.copy(src["history"], dst, "history")
         space = dst.create_group("space")

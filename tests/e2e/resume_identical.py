@@ -44,7 +44,16 @@ expected = read_archive(os.path.join(whole, "archive.h5"))
 interrupted = os.path.join(work, "sigint-part")
 proc = subprocess.Popen([TESSERA, "illuminate", problem("arm.toml"), "--out", interrupted, "-n",
                          str(budget), "--quiet", *extra], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-time.sleep(rng.uniform(0.3, 1.5))
+# Wait until tessera's handler is in place (the dynamic loader's start-up before main can take
+# a few tenths of a second on a busy machine), then pick the moment.
+deadline = time.time() + 60
+while time.time() < deadline and proc.poll() is None:
+    with open(f"/proc/{proc.pid}/status") as status:
+        caught = int(next(l for l in status if l.startswith("SigCgt:")).split()[1], 16)
+    if caught & (1 << (signal.SIGINT - 1)):
+        break
+    time.sleep(0.005)
+time.sleep(rng.uniform(0.1, 1.2))
 proc.send_signal(signal.SIGINT)
 out, err = proc.communicate(timeout=120)
 if proc.returncode == 0:

@@ -4,6 +4,7 @@
 // order, so that a reader that sorts, rounds or drops anything is caught.
 #pragma once
 
+#include <algorithm>
 #include <cfloat>
 #include <cmath>
 #include <cstdint>
@@ -34,6 +35,7 @@ inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
   s.problem = "arm";
   s.config = "# résumé of the run\n[problem]\nname = \"arm\"\n\n[search]\nseed = 42\n";
   s.seed = 42 + o.salt;
+  // Consistent with the history below (which ends at it) and with the counters.
   s.evaluations = 1000 * (o.elites + 1) + o.salt;
   s.tool_version = "0.1.0-test";
   s.space_kind = o.kind;
@@ -59,15 +61,30 @@ inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
   s.genome_bounds.lower.assign(o.genome, -std::numbers::pi);
   s.genome_bounds.upper.assign(o.genome, std::numbers::pi);
   const double specials[] = {-0.0, 5e-324, DBL_MIN, -1e300, 1e-310, 0.1, -7.25};
+  // Genomes stay within their bounds (the bounds themselves included).
+  const double genome_specials[] = {-0.0, 5e-324, DBL_MIN, -std::numbers::pi, 1e-310, 0.1,
+                                    std::numbers::pi};
   for (std::size_t i = 0; i < o.elites; ++i) {
-    s.cell.push_back(static_cast<std::int64_t>((i * step + o.salt) % cells));
+    const auto cell = static_cast<std::int64_t>((i * step + o.salt) % cells);
+    s.cell.push_back(cell);
     s.fitness.push_back(i < 7 ? specials[i] : rng.uniform(-10.0, 0.0));
     s.birth.push_back(3 * i + 1 + (o.salt << 40));
     for (std::size_t j = 0; j < o.genome; ++j)
-      s.genome.push_back(j == 0 && i < 7 ? specials[i] : rng.uniform(-3.0, 3.0));
-    for (std::size_t j = 0; j < d; ++j)
-      s.descriptor.push_back(
-          rng.uniform(s.descriptor_bounds.lower[j], s.descriptor_bounds.upper[j]));
+      s.genome.push_back(j == 0 && i < 7 ? genome_specials[i] : rng.uniform(-3.0, 3.0));
+    // Each descriptor lies in its own cell: a grid cell's centre (row-major, last dimension
+    // fastest) or the CVT centroid itself.
+    for (std::size_t j = 0; j < d; ++j) {
+      const double lo = s.descriptor_bounds.lower[j], hi = s.descriptor_bounds.upper[j];
+      if (o.kind == "grid") {
+        const std::int64_t k = j == 0 ? cell / s.resolution[1] : cell % s.resolution[1];
+        s.descriptor.push_back(lo + (static_cast<double>(k) + 0.5) * (hi - lo) /
+                                        static_cast<double>(s.resolution[j]));
+      } else if (o.kind == "cvt") {
+        s.descriptor.push_back(s.centroids[static_cast<std::size_t>(cell) * d + j]);
+      } else {
+        s.descriptor.push_back(rng.uniform(lo, hi));
+      }
+    }
   }
   const char* extra_names[] = {"path_length", "goal_time", "état", "area"};
   for (std::size_t e = 0; e < o.extras; ++e)
@@ -89,13 +106,15 @@ inline ArchiveSnapshot sample_snapshot(const SampleOptions& o) {
     s.novelty_archive = std::move(b);
   }
   s.fitness_floor = -std::numbers::pi * std::numbers::pi;
+  // Rows end at the archive's evaluations, as a run's history does.
+  const std::uint64_t spacing = o.history == 0 ? 0 : std::min<std::uint64_t>(64, s.evaluations / o.history);
   for (std::size_t t = 0; t < o.history; ++t)
-    s.history.push_back(
-        {(t + 1) * 64, (t + 1.0) / (o.history + 3.0), 0.5 * t + 1e-17, -1.0 / (t + 1.0)});
+    s.history.push_back({s.evaluations - (o.history - 1 - t) * spacing,
+                         (t + 1.0) / (o.history + 3.0), 0.5 * t + 1e-17, -1.0 / (t + 1.0)});
   if (o.resume) {
     ResumeState r;
     r.algorithm = "map-elites";
-    r.next_batch = 1 + o.salt;
+    r.next_batch = o.history;  // one row per batch
     r.counters = {
         {"invalid", 3}, {"out_of_bounds", 5}, {"failed:timeout", 2}, {"huge", UINT64_MAX}};
     // Engine state may hold sentinels such as -inf; only the result datasets must be finite.

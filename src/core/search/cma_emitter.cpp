@@ -121,6 +121,9 @@ void CmaEmitter::tell(const Batch& batch, std::span<const InsertResult> results)
   // A budget that ends mid-generation leaves a short batch: no update from it.
   if (batch.count < lambda || !started_) return;
   const std::size_t n = es_.dimensions();
+  // A batch cut by the budget and completed after a resume: the steps sampled when it was asked
+  // are gone (they are not saved), so it cannot teach the distribution.
+  if (samples_.size() < lambda * n) return;
   const double lowest = -std::numeric_limits<double>::infinity();
   std::vector<int> group(lambda, 0);
   std::vector<double> value(lambda, lowest);

@@ -30,32 +30,59 @@ MapElitesSearch::MapElitesSearch(SearchSettings settings,
 void MapElitesSearch::step() {
   if (finished()) return;
   const std::uint64_t remaining = settings_.evaluations - counters_.evaluations;
+  if (batch_done_ == 0) {
+    // The whole batch is drawn even when the budget ends inside it, so that a later resume can
+    // evaluate the rest exactly as one run of the larger budget would have.
+    batch_.resize(settings_.batch, archive_.genome_size(), archive_.descriptor_size(), extra_size_);
+    EmitContext context;
+    context.seed = settings_.seed;
+    context.batch_index = next_batch_;
+    context.first_candidate = counters_.evaluations;
+    context.initial = settings_.effective_initial();
+    context.genome_bounds = &genome_bounds_;
+    context.start = settings_.start.get();
+    emitter_->ask(archive_, context, batch_);
+    results_.assign(batch_.count, InsertResult{});
+  }
+  const std::size_t first = batch_done_;
   const std::size_t count =
-      static_cast<std::size_t>(std::min<std::uint64_t>(settings_.batch, remaining));
-  batch_.resize(count, archive_.genome_size(), archive_.descriptor_size(), extra_size_);
-
-  EmitContext context;
-  context.seed = settings_.seed;
-  context.batch_index = next_batch_;
-  context.first_candidate = counters_.evaluations;
-  context.initial = settings_.effective_initial();
-  context.genome_bounds = &genome_bounds_;
-  context.start = settings_.start.get();
-  emitter_->ask(archive_, context, batch_);
-
-  evaluate_(batch_);
+      static_cast<std::size_t>(std::min<std::uint64_t>(batch_.count - first, remaining));
+  evaluate_range(first, count);
 
   // Insertion is serial and in candidate order: the archive's evolution is fixed by the seed.
-  results_.resize(count);
-  for (std::size_t j = 0; j < count; ++j)
-    results_[j] = offer_candidate(archive_, batch_, j, counters_.evaluations + j + 1, qd_offset_,
-                                  counters_, qd_score_, max_fitness_);
-  emitter_->tell(batch_, results_);
-
+  for (std::size_t j = first; j < first + count; ++j)
+    results_[j] = offer_candidate(archive_, batch_, j, counters_.evaluations + (j - first) + 1,
+                                  qd_offset_, counters_, qd_score_, max_fitness_);
   counters_.evaluations += count;
-  ++next_batch_;
-  history_.push_back(
-      history_row(archive_, counters_.evaluations, qd_score_, max_fitness_, qd_offset_));
+  batch_done_ = first + count == batch_.count ? 0 : first + count;
+  if (batch_done_ == 0) {
+    emitter_->tell(batch_, results_);
+    ++next_batch_;
+  }
+  // A batch completed after a resume replaces the row its cut part left.
+  const HistoryRow row =
+      history_row(archive_, counters_.evaluations, qd_score_, max_fitness_, qd_offset_);
+  if (first > 0 && !history_.empty())
+    history_.back() = row;
+  else
+    history_.push_back(row);
+}
+
+void MapElitesSearch::evaluate_range(std::size_t first, std::size_t count) {
+  if (first == 0 && count == batch_.count) {
+    evaluate_(batch_);
+    return;
+  }
+  Batch part;
+  const std::size_t g = batch_.genome_size, d = batch_.descriptor_size, e = batch_.extra_size;
+  part.resize(count, g, d, e);
+  std::copy_n(batch_.genomes.begin() + first * g, count * g, part.genomes.begin());
+  evaluate_(part);
+  std::copy_n(part.genomes.begin(), count * g, batch_.genomes.begin() + first * g);
+  std::copy_n(part.fitness.begin(), count, batch_.fitness.begin() + first);
+  std::copy_n(part.descriptors.begin(), count * d, batch_.descriptors.begin() + first * d);
+  std::copy_n(part.valid.begin(), count, batch_.valid.begin() + first);
+  std::copy_n(part.extras.begin(), count * e, batch_.extras.begin() + first * e);
 }
 
 SearchFigures MapElitesSearch::figures() const {
@@ -133,6 +160,7 @@ void MapElitesSearch::save(ArchiveSnapshot& out) const {
   if (archive_.has_thresholds() && !archive_.empty())
     state.arrays["thresholds"] = archive_.thresholds();
   emitter_->save(state);
+  if (batch_done_ > 0) save_partial_batch(state);
   out.resume = state;
 }
 
@@ -162,6 +190,79 @@ void MapElitesSearch::restore(const ArchiveSnapshot& in) {
                      ? it->second[0]
                      : -std::numeric_limits<double>::infinity();
   emitter_->load(*in.resume);
+  load_partial_batch(*in.resume);
+}
+
+// A batch cut by the budget: all its genomes, what the evaluated part gave, and what the archive
+// did with it, so that resuming completes it as if it had never been cut.
+void MapElitesSearch::save_partial_batch(ResumeState& state) const {
+  auto as_doubles = [](const auto& values) {
+    return std::vector<double>(values.begin(), values.end());
+  };
+  state.arrays["partial_done"] = {static_cast<double>(batch_done_)};
+  state.arrays["partial_genome"] = batch_.genomes;
+  state.arrays["partial_fitness"] = batch_.fitness;
+  state.arrays["partial_descriptor"] = batch_.descriptors;
+  state.arrays["partial_valid"] = as_doubles(batch_.valid);
+  state.arrays["partial_extras"] = batch_.extras;
+  std::vector<double> outcome, clamped, cell, replaced;
+  for (std::size_t j = 0; j < batch_done_; ++j) {
+    outcome.push_back(static_cast<double>(results_[j].outcome));
+    clamped.push_back(results_[j].clamped ? 1.0 : 0.0);
+    cell.push_back(static_cast<double>(results_[j].cell));
+    replaced.push_back(results_[j].replaced_fitness);
+  }
+  state.arrays["partial_outcome"] = outcome;
+  state.arrays["partial_clamped"] = clamped;
+  state.arrays["partial_cell"] = cell;
+  state.arrays["partial_replaced"] = replaced;
+}
+
+void MapElitesSearch::load_partial_batch(const ResumeState& state) {
+  batch_done_ = 0;
+  auto find = [&](const char* key) -> const std::vector<double>* {
+    auto it = state.arrays.find(key);
+    return it == state.arrays.end() ? nullptr : &it->second;
+  };
+  const auto* done = find("partial_done");
+  if (!done) return;
+  const std::size_t g = archive_.genome_size(), d = archive_.descriptor_size();
+  const std::size_t n = settings_.batch;
+  const auto* genome = find("partial_genome");
+  const auto* fitness = find("partial_fitness");
+  const auto* descriptor = find("partial_descriptor");
+  const auto* valid = find("partial_valid");
+  const auto* extras = find("partial_extras");
+  const auto* outcome = find("partial_outcome");
+  const auto* clamped = find("partial_clamped");
+  const auto* cell = find("partial_cell");
+  const auto* replaced = find("partial_replaced");
+  if (done->size() != 1 || !(done->front() >= 1.0 && done->front() < static_cast<double>(n)))
+    throw std::invalid_argument("the cut batch's position does not fit the batch size");
+  const auto k = static_cast<std::size_t>(done->front());
+  const bool sizes_fit = genome && genome->size() == n * g && fitness && fitness->size() == n &&
+                         descriptor && descriptor->size() == n * d && valid && valid->size() == n &&
+                         extras && extras->size() == n * extra_size_ && outcome &&
+                         outcome->size() == k && clamped && clamped->size() == k && cell &&
+                         cell->size() == k && replaced && replaced->size() == k;
+  if (!sizes_fit) throw std::invalid_argument("the cut batch's arrays do not fit the batch size");
+  batch_.resize(n, g, d, extra_size_);
+  batch_.genomes = *genome;
+  batch_.fitness = *fitness;
+  batch_.descriptors = *descriptor;
+  for (std::size_t j = 0; j < n; ++j) batch_.valid[j] = (*valid)[j] != 0.0 ? 1 : 0;
+  batch_.extras = *extras;
+  results_.assign(n, InsertResult{});
+  for (std::size_t j = 0; j < k; ++j) {
+    const double o = (*outcome)[j];
+    if (!(o >= 0.0 && o <= static_cast<double>(Insertion::invalid)))
+      throw std::invalid_argument("the cut batch holds an unknown insertion outcome");
+    results_[j].outcome = static_cast<Insertion>(static_cast<int>(o));
+    results_[j].clamped = (*clamped)[j] != 0.0;
+    results_[j].cell = static_cast<std::int64_t>((*cell)[j]);
+    results_[j].replaced_fitness = (*replaced)[j];
+  }
+  batch_done_ = k;
 }
 
 }  // namespace tessera

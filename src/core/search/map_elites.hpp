@@ -33,6 +33,10 @@ class MapElitesSearch final : public SearchAlgorithm {
   const std::vector<InsertResult>& last_results() const { return results_; }
 
  private:
+  void evaluate_range(std::size_t first, std::size_t count);
+  void save_partial_batch(ResumeState& state) const;
+  void load_partial_batch(const ResumeState& state);
+
   SearchSettings settings_;
   EliteArchive archive_;
   Bounds genome_bounds_;
@@ -42,7 +46,8 @@ class MapElitesSearch final : public SearchAlgorithm {
   std::size_t extra_size_;
   SearchCounters counters_;
   std::uint64_t next_batch_ = 0;
-  double qd_score_ = 0.0;  // kept incrementally; restored from the last history row
+  std::size_t batch_done_ = 0;  // candidates of a batch cut by the budget already inserted
+  double qd_score_ = 0.0;       // kept incrementally; restored from the last history row
   double max_fitness_;
   std::vector<HistoryRow> history_;
   Batch batch_;
