@@ -50,7 +50,7 @@ void dataset(H5::Group& group, const char* name, const H5::PredType& file_type,
 void write_contents(H5::H5File& file, const TrialLog& log) {
   string_attr(file, "format", "tessera-trial-log");
   scalar_attr<std::int64_t>(file, "format_version", H5::PredType::STD_I64LE,
-                            H5::PredType::NATIVE_INT64, 1);
+                            H5::PredType::NATIVE_INT64, 2);
   string_attr(file, "tool_version", TESSERA_VERSION);
   string_attr(file, "archive", log.archive);
   string_attr(file, "run_file", log.run_file);
@@ -62,7 +62,11 @@ void write_contents(H5::H5File& file, const TrialLog& log) {
     scalar_attr(g, name, H5::PredType::IEEE_F64LE, H5::PredType::NATIVE_DOUBLE, v);
   };
   f64("kappa", log.kappa);
-  f64("stop_fraction", log.stop_fraction);
+  f64("stop_gap", log.stop_gap);
+  f64("good_enough", log.good_enough);
+  f64("expected_best", log.expected_best);
+  f64("expected_span", log.expected_span);
+  f64("brute_force_best", log.brute_force_best);
   f64("length_scale", log.length_scale);
   f64("signal_variance", log.signal_variance);
   f64("noise", log.noise);

@@ -1,9 +1,12 @@
 // The log of a recovery by trial and error (`tessera adapt --log FILE.h5`), an HDF5 file of its
 // own beside the archive it drew from:
-//   /            attrs: format="tessera-trial-log", format_version=1, tool_version, archive,
+//   /            attrs: format="tessera-trial-log", format_version=2, tool_version, archive,
 //                run_file, source ("simulation" | "process: CMD" | "operator"), prior
-//   /trials      attrs: kappa, stop_fraction, length_scale, signal_variance, noise, max_trials,
-//                       stop_reason, chosen (0-based row of the chosen trial, -1 when none)
+//   /trials      attrs: kappa, stop_gap, good_enough (NaN when none), expected_best,
+//                       expected_span, length_scale, signal_variance, noise, max_trials,
+//                       stop_reason, chosen (0-based row of the chosen trial, -1 when none),
+//                       brute_force_best (NaN unless every elite was evaluated for reference)
+// (Format 1 had stop_fraction instead of stop_gap ... expected_span, and no brute_force_best.)
 //   /trials/cell                 int64   [T]     the elite's cell in the archive
 //   /trials/elite                uint64  [T]     the elite's row in /elites
 //   /trials/prior                float64 [T]     the map's prediction
@@ -42,7 +45,11 @@ struct TrialLog {
   std::string source;
   std::string prior;
   double kappa = 0.0;
-  double stop_fraction = 0.0;
+  double stop_gap = 0.0;
+  double good_enough = 0.0;       // NaN when none
+  double expected_best = 0.0;     // the highest prior
+  double expected_span = 0.0;     // highest minus lowest prior
+  double brute_force_best = 0.0;  // NaN when not computed
   double length_scale = 0.0;
   double signal_variance = 0.0;
   double noise = 0.0;
