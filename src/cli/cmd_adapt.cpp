@@ -19,10 +19,10 @@
 #include <vector>
 
 #include "cli/commands.hpp"
-#include "cli/format.hpp"
 #include "cli/hardware_caution.hpp"
-#include "core/base/errors.hpp"
+#include "cli/format.hpp"
 #include "core/models/adaptation.hpp"
+#include "core/base/errors.hpp"
 #include "eval/problem_factory.hpp"
 #include "eval/process_problem.hpp"
 #include "io/archive_file.hpp"

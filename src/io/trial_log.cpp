@@ -152,4 +152,69 @@ void write_trial_log(const std::string& path, const TrialLog& log) {
   }
 }
 
+namespace {
+
+std::string read_string_attr(const H5::H5Object& obj, const char* name) {
+  H5::Attribute a = obj.openAttribute(name);
+  H5::StrType type = a.getStrType();
+  std::string value;
+  a.read(type, value);
+  return value;
+}
+
+template <class T>
+T read_scalar_attr(const H5::H5Object& obj, const char* name, const H5::PredType& memory_type) {
+  T value{};
+  obj.openAttribute(name).read(memory_type, &value);
+  return value;
+}
+
+template <class T>
+std::vector<T> read_column(const H5::Group& g, const char* name, const H5::PredType& memory_type) {
+  H5::DataSet ds = g.openDataSet(name);
+  hsize_t dims[2] = {0, 0};
+  ds.getSpace().getSimpleExtentDims(dims);
+  std::vector<T> out(dims[0]);
+  if (!out.empty()) ds.read(out.data(), memory_type);
+  return out;
+}
+
+}  // namespace
+
+std::optional<TrialLogSummary> read_trial_log_summary(const std::string& path) {
+  H5::Exception::dontPrint();
+  std::optional<H5::H5File> file;
+  try {
+    if (!H5::H5File::isHdf5(path)) return std::nullopt;
+    file.emplace(path, H5F_ACC_RDONLY);
+    if (!file->attrExists("format") || read_string_attr(*file, "format") != "tessera-trial-log")
+      return std::nullopt;
+  } catch (const H5::Exception&) {
+    return std::nullopt;  // not ours to explain: the archive reader says what is wrong
+  }
+  try {
+    TrialLogSummary s;
+    s.format_version =
+        read_scalar_attr<std::int64_t>(*file, "format_version", H5::PredType::NATIVE_INT64);
+    s.tool_version = read_string_attr(*file, "tool_version");
+    s.archive = read_string_attr(*file, "archive");
+    s.run_file = read_string_attr(*file, "run_file");
+    s.source = read_string_attr(*file, "source");
+    s.prior = read_string_attr(*file, "prior");
+    const H5::Group g = file->openGroup("/trials");
+    s.stop_reason = read_string_attr(g, "stop_reason");
+    s.max_trials = read_scalar_attr<std::uint64_t>(g, "max_trials", H5::PredType::NATIVE_UINT64);
+    s.chosen = read_scalar_attr<std::int64_t>(g, "chosen", H5::PredType::NATIVE_INT64);
+    s.cell = read_column<std::int64_t>(g, "cell", H5::PredType::NATIVE_INT64);
+    s.measured = read_column<double>(g, "measured", H5::PredType::NATIVE_DOUBLE);
+    if (s.cell.size() != s.measured.size() ||
+        (s.chosen >= 0 && static_cast<std::size_t>(s.chosen) >= s.measured.size()))
+      throw InputError(path + ": trial log with inconsistent trial rows");
+    return s;
+  } catch (const H5::Exception& e) {
+    throw InputError(
+        path + ": a trial log of `tessera adapt --log` that cannot be read: " + e.getDetailMsg());
+  }
+}
+
 }  // namespace tessera

@@ -21,6 +21,7 @@
 #pragma once
 
 #include <cstdint>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -64,5 +65,20 @@ struct TrialLog {
 // Throws tessera::InputError "PATH: cannot write the trial log: reason"; a previous file at
 // `path` is then left intact.
 void write_trial_log(const std::string& path, const TrialLog& log);
+
+// What `tessera inspect` shows of a trial log.
+struct TrialLogSummary {
+  std::int64_t format_version = 0;
+  std::string tool_version, archive, run_file, source, prior, stop_reason;
+  std::uint64_t max_trials = 0;
+  std::int64_t chosen = -1;
+  std::vector<std::int64_t> cell;
+  std::vector<double> measured;
+};
+
+// The summary when `path` is an HDF5 file whose root says format="tessera-trial-log"; nothing
+// otherwise (not HDF5, or another kind of file). Throws tessera::InputError when it is a trial
+// log that cannot be read.
+std::optional<TrialLogSummary> read_trial_log_summary(const std::string& path);
 
 }  // namespace tessera
