@@ -16,5 +16,6 @@ void register_report(CLI::App& app);
 void register_adapt(CLI::App& app);
 void register_export_linkage(CLI::App& app);
 void register_transfer(CLI::App& app);
+void register_compare(CLI::App& app);
 
 }  // namespace tessera::cli

@@ -45,6 +45,7 @@ int main(int argc, char** argv) {
   tessera::cli::register_adapt(app);
   tessera::cli::register_export_linkage(app);
   tessera::cli::register_transfer(app);
+  tessera::cli::register_compare(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

@@ -3,6 +3,7 @@
 #include <stdexcept>
 
 #include "core/base/errors.hpp"
+#include "core/search/emitter_mixture.hpp"
 #include "core/search/map_elites.hpp"
 #include "core/search/population_search.hpp"
 #include "core/search/variation_emitter.hpp"
@@ -66,9 +67,18 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
     evaluate = [evaluator](Batch& batch) { evaluator->evaluate(batch); };
   }
   if (config.algorithm == "map-elites") {
-    run.search = std::make_unique<MapElitesSearch>(
-        config.search, space, info.genome, info.fitness_lower,
-        std::make_unique<VariationEmitter>(config.variation), evaluate, info.extra_names.size());
+    std::unique_ptr<Emitter> emitter;
+    try {
+      if (config.emitters.empty())
+        emitter = std::make_unique<VariationEmitter>(config.variation);
+      else
+        emitter = make_emitter_mixture(config.emitters, info.genome.size());
+    } catch (const std::invalid_argument& e) {
+      throw InputError(config.source + ": key 'search.emitters': " + e.what());
+    }
+    run.search = std::make_unique<MapElitesSearch>(config.search, space, info.genome,
+                                                   info.fitness_lower, std::move(emitter),
+                                                   evaluate, info.extra_names.size());
   } else if (is_population_algorithm(config.algorithm)) {
     try {
       run.search = std::make_unique<PopulationSearch>(

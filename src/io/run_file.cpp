@@ -12,13 +12,16 @@
 
 #include "core/base/errors.hpp"
 #include "io/closest_name.hpp"
+#include "io/emitter_keys.hpp"
 
 namespace tessera {
 namespace {
 
 namespace fs = std::filesystem;
 
-enum class KeyType { integer, number, string, boolean, int_or_ints, numbers, strings, table };
+enum class KeyType {
+  integer, number, string, boolean, int_or_ints, numbers, strings, table, tables
+};
 
 struct KeySpec {
   KeyType type;
@@ -67,6 +70,7 @@ const std::map<std::string, KeySpec>& schema() {
       {"search.sigma_iso", {KeyType::number, def_num(0.01), "Iso+LineDD isotropic step"}},
       {"search.sigma_line", {KeyType::number, def_num(0.2), "Iso+LineDD line step"}},
       {"search.sigma", {KeyType::number, def_num(0.05), "Gaussian mutation step"}},
+      {"search.emitters", {KeyType::tables, {}, "emitters sharing each batch (map-elites)"}},
       {"search.tournament", {KeyType::integer, def_int(3), "population searches: tournament size"}},
       {"novelty.neighbours", {KeyType::integer, def_int(15), "k nearest neighbours"}},
       {"novelty.threshold", {KeyType::number, def_num(0.05), "initial archive threshold"}},
@@ -90,6 +94,7 @@ const char* type_name(KeyType type) {
     case KeyType::numbers: return "an array of numbers";
     case KeyType::strings: return "an array of strings";
     case KeyType::table: return "a table";
+    case KeyType::tables: return "an array of tables";
   }
   return "?";
 }
@@ -112,6 +117,7 @@ bool has_type(const toml::node& node, KeyType type) {
     case KeyType::numbers: return all_of([](const toml::node& n) { return n.is_number(); });
     case KeyType::strings: return all_of([](const toml::node& n) { return n.is_string(); });
     case KeyType::table: return node.is_table();
+    case KeyType::tables: return node.is_array_of_tables();
   }
   return false;
 }
@@ -369,6 +375,7 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
   for (const auto& assignment : overrides) apply_override(root, assignment, source);
   check_known_keys(root, checker);
 
+  const bool batch_given = root["search"]["batch"].node() != nullptr;
   // Fill in defaults so the stored config is complete.
   for (const auto& [full, spec] : schema()) {
     if (!spec.set_default) continue;
@@ -385,6 +392,18 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
 
   toml::table& search = section_of(root, "search");
   config.algorithm = get_str(search, "algorithm", "map-elites");
+  if (auto* entries = search["emitters"].as_array()) {
+    if (config.algorithm != "map-elites")
+      checker.fail(entries, "search.emitters", "only for algorithm = \"map-elites\"");
+    config.emitters = parse_emitter_entries(*entries, source);
+    // The batch is the emitters' candidates together.
+    const auto total = static_cast<std::int64_t>(emitter_list_batch(config.emitters, 1));
+    if (batch_given && get_int(search, "batch", 0) != total)
+      checker.fail(search["batch"].node(), "search.batch",
+                   "must equal the emitters' candidates per batch, " + std::to_string(total) +
+                       " (or be left out)");
+    search.insert_or_assign("batch", total);
+  }
   const auto algorithms = known_algorithms();
   if (std::find(algorithms.begin(), algorithms.end(), config.algorithm) == algorithms.end()) {
     std::string list;

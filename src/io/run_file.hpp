@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "core/archive/cvt.hpp"
+#include "core/search/emitter_mixture.hpp"
 #include "core/search/population_search.hpp"
 #include "core/search/search.hpp"
 #include "core/search/variation_emitter.hpp"
@@ -33,6 +34,7 @@ struct RunConfig {
   std::string algorithm = "map-elites";
   SearchSettings search;
   VariationSettings variation;
+  std::vector<EmitterSpec> emitters;  // [[search.emitters]]; empty = one variation emitter
   PopulationSettings population;  // novelty, novelty-lc, objective, random
   SpaceConfig space;
   CheckpointConfig checkpoint;

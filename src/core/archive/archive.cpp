@@ -116,4 +116,40 @@ std::optional<std::size_t> EliteArchive::best() const {
                                   fitness_.begin());
 }
 
+void EliteArchive::enable_thresholds(double learning_rate, double minimum) {
+  if (!(learning_rate >= 0.0 && learning_rate <= 1.0))
+    throw std::invalid_argument("archive learning rate must lie in [0, 1]");
+  thresholds_on_ = true;
+  threshold_rate_ = learning_rate;
+  threshold_minimum_ = minimum;
+}
+
+double EliteArchive::threshold_of_cell(std::int64_t cell) const {
+  const auto slot = elite_in(cell);
+  return slot && *slot < thresholds_.size() ? thresholds_[*slot] : threshold_minimum_;
+}
+
+double EliteArchive::update_threshold(std::int64_t cell, double fitness) {
+  const auto slot = elite_in(cell);
+  if (!slot) throw std::logic_error("threshold update for an empty cell");
+  if (thresholds_.size() <= *slot) thresholds_.resize(*slot + 1, threshold_minimum_);
+  double& t = thresholds_[*slot];
+  const double before = t;
+  if (fitness > t) t = (1.0 - threshold_rate_) * t + threshold_rate_ * fitness;
+  return before;
+}
+
+std::vector<double> EliteArchive::thresholds() const {
+  std::vector<double> out(thresholds_);
+  out.resize(size(), threshold_minimum_);
+  return out;
+}
+
+void EliteArchive::restore_thresholds(std::span<const double> values) {
+  if (values.size() != size())
+    throw std::invalid_argument("archive thresholds: " + std::to_string(values.size()) +
+                                " values for " + std::to_string(size()) + " elites");
+  thresholds_.assign(values.begin(), values.end());
+}
+
 }  // namespace tessera

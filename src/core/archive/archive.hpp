@@ -27,6 +27,8 @@ struct InsertResult {
   bool clamped = false;       // descriptor was outside the bounds (counted, sent to an edge cell)
   std::int64_t cell = -1;     // -1 when invalid
   double replaced_fitness = 0.0;  // the former elite's fitness when outcome == improved
+  double threshold = 0.0;  // with thresholds: the cell's acceptance threshold before this one
+  bool above_threshold = false;  // with thresholds: fitness exceeded it (the threshold moved)
 };
 
 // Elites are kept in the order their cells were first filled. That order is part of the state
@@ -68,6 +70,18 @@ class EliteArchive {
   double max_fitness() const;                    // -inf when empty
   std::optional<std::size_t> best() const;       // index of the fittest elite (first on ties)
 
+  // Acceptance thresholds of CMA-MAE (Fontaine & Nikolaidis, ICLR 2023), one per cell, kept
+  // beside the elites (which stay the best ever found). Empty cells sit at `minimum`.
+  void enable_thresholds(double learning_rate, double minimum);
+  bool has_thresholds() const { return thresholds_on_; }
+  double threshold_of_cell(std::int64_t cell) const;
+  // For a candidate of `fitness` in `cell` (which holds an elite by now): returns the threshold
+  // before, and when fitness > t moves it to (1 - learning_rate) t + learning_rate * fitness.
+  double update_threshold(std::int64_t cell, double fitness);
+  // Per elite, in elite order; elites without an entry yet are at the minimum.
+  std::vector<double> thresholds() const;
+  void restore_thresholds(std::span<const double> values);  // throws on a length mismatch
+
  private:
   std::shared_ptr<const DescriptorSpace> space_;
   std::size_t genome_size_;
@@ -78,6 +92,10 @@ class EliteArchive {
   std::vector<std::uint64_t> birth_;
   std::vector<double> genomes_;
   std::vector<double> descriptors_;
+  bool thresholds_on_ = false;
+  double threshold_rate_ = 1.0;
+  double threshold_minimum_ = 0.0;
+  std::vector<double> thresholds_;  // by elite index, grown as cells fill
 };
 
 }  // namespace tessera

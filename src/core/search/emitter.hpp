@@ -4,6 +4,7 @@
 #pragma once
 
 #include <cstdint>
+#include <optional>
 #include <span>
 #include <string>
 
@@ -33,6 +34,9 @@ class Emitter {
   // Emitters with state beyond the random streams save it for checkpoints.
   virtual void save(ResumeState& /*state*/) const {}
   virtual void load(const ResumeState& /*state*/) {}
+  // Emitters ranking against acceptance thresholds (CMA-MAE) ask the archive to keep them,
+  // moving at this learning rate.
+  virtual std::optional<double> archive_learning_rate() const { return std::nullopt; }
 };
 
 }  // namespace tessera

@@ -23,6 +23,8 @@ MapElitesSearch::MapElitesSearch(SearchSettings settings,
       max_fitness_(-std::numeric_limits<double>::infinity()) {
   if (settings_.batch == 0) throw std::invalid_argument("batch size must be at least 1");
   check_bounds(genome_bounds_, "genome bounds");
+  if (const auto rate = emitter_->archive_learning_rate())
+    archive_.enable_thresholds(*rate, qd_offset_);
 }
 
 void MapElitesSearch::step() {
@@ -106,6 +108,8 @@ void MapElitesSearch::save(ArchiveSnapshot& out) const {
   state.next_batch = next_batch_;
   save_counters(counters_, state);
   state.arrays["max_fitness"] = {max_fitness_};
+  if (archive_.has_thresholds() && !archive_.empty())
+    state.arrays["thresholds"] = archive_.thresholds();
   emitter_->save(state);
   out.resume = state;
 }
@@ -125,6 +129,12 @@ void MapElitesSearch::restore(const ArchiveSnapshot& in) {
   for (std::size_t i = 0; i < in.elite_count(); ++i)
     archive_.restore(in.cell[i], {in.genome.data() + i * g, g}, in.fitness[i],
                      {in.descriptor.data() + i * d, d}, in.birth[i]);
+  if (archive_.has_thresholds() && !archive_.empty()) {
+    const auto t = in.resume->arrays.find("thresholds");
+    if (t == in.resume->arrays.end())
+      throw std::invalid_argument("the resume state holds no archive thresholds");
+    archive_.restore_thresholds(t->second);
+  }
   history_ = in.history;
   counters_ = load_counters(*in.resume, in.evaluations);
   next_batch_ = in.resume->next_batch;

@@ -7,8 +7,12 @@ namespace tessera {
 InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::size_t j,
                              std::uint64_t birth, double qd_offset, SearchCounters& counters,
                              double& qd_score, double& max_fitness) {
-  const InsertResult r = archive.insert(batch.genome(j), batch.fitness[j], batch.descriptor(j),
+  InsertResult r = archive.insert(batch.genome(j), batch.fitness[j], batch.descriptor(j),
                                         birth, batch.valid[j] != 0);
+  if (archive.has_thresholds() && r.outcome != Insertion::invalid) {
+    r.threshold = archive.update_threshold(r.cell, batch.fitness[j]);
+    r.above_threshold = batch.fitness[j] > r.threshold;
+  }
   switch (r.outcome) {
     case Insertion::new_cell:
       ++counters.new_cells;
