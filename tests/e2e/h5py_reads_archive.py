@@ -1,6 +1,6 @@
 # h5py (Debian python3-h5py, built on the HDF5 reference library) reads every dataset and
 # attribute of archives Tessera writes, with the types and shapes of archive format 1
-# (DESIGN.md), and the figures of `tessera inspect --format json` equal those computed here
+# (README.md), and the figures of `tessera inspect --format json` equal those computed here
 # from the raw datasets with numpy.
 # Archives: a real `tessera illuminate problems/arm.toml` run (small budget), and deterministic
 # grid, CVT, unstructured and empty archives from tests/tools/write_sample_archive.
@@ -194,20 +194,20 @@ with tempfile.TemporaryDirectory(prefix="tessera-h5py-") as tmp:
         f, a = check_archive(archive, "arm run")
         check(f.attrs["problem"] == "arm" and a["kind"] == "grid", "arm: grid archive of arm")
         check("[problem]" in f.attrs["config"], "arm: the resolved run file is stored")
-        # Problem definition (DESIGN.md): genome in [-pi, pi]^n, descriptor in [-1, 1]^2,
+        # Problem definition (README.md): genome in [-pi, pi]^n, descriptor in [-1, 1]^2,
         # lowest fitness -pi^2 (the QD-score offset).
         check(np.all(a["glo"] == -math.pi) and np.all(a["gup"] == math.pi), "arm: genome bounds")
         check(a["lower"].tolist() == [-1.0, -1.0] and a["upper"].tolist() == [1.0, 1.0],
               "arm: descriptor bounds")
         check(a["qd_offset"] == -math.pi ** 2, "arm: qd_offset is -pi^2")
         check(len(a["fitness"]) > 0, "arm: the run found elites")
-        # Each elite lies in its cell: the grid formula of DESIGN.md, written out with numpy.
+        # Each elite lies in its cell: the grid formula of README.md, written out with numpy.
         k = np.floor((a["desc"] - a["lower"]) / (a["upper"] - a["lower"]) * a["res"])
         k = np.clip(k, 0, a["res"] - 1).astype(np.int64)
         flat = k[:, 0] * a["res"][1] + k[:, 1]
         check(np.array_equal(flat, a["cell"]), "arm: /elites/cell matches the grid formula")
         # The descriptor is the end effector (forward kinematics, Craig, Introduction to
-        # Robotics) and the fitness minus the variance of the angles (DESIGN.md).
+        # Robotics) and the fitness minus the variance of the angles (README.md).
         angles = np.cumsum(a["gen"], axis=1)
         n_j = a["gen"].shape[1]
         effector = np.stack([np.cos(angles).sum(1), np.sin(angles).sum(1)], axis=1) / n_j

@@ -19,7 +19,7 @@ assert a["@problem"] == "arm" and a["@evaluations"] == 30000
 g = a["elites/genome"]
 n_joints = g.shape[1]
 assert n_joints == 10
-# Planar arm forward kinematics (DESIGN.md; standard robotics, e.g. Craig, Introduction to
+# Planar arm forward kinematics (README.md; standard robotics, e.g. Craig, Introduction to
 # Robotics): p = sum_i (1/n)(cos a_i, sin a_i), a_i = theta_1 + ... + theta_i.
 cum = np.cumsum(g, axis=1)
 p = np.stack([np.cos(cum).sum(axis=1), np.sin(cum).sum(axis=1)], axis=1) / n_joints

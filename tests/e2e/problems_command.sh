@@ -17,7 +17,7 @@ listing = json.load(open(sys.argv[1]))
 text = open(sys.argv[2]).read()
 bad = sys.argv[3]
 by_name = {p["name"]: p for p in listing["problems"]}
-# DESIGN.md "Shipped problems": sizes, bounds and the QD offset (fitness lower bound).
+# README.md "Shipped problems": sizes, bounds and the QD offset (fitness lower bound).
 expect = {
     "arm": (10, -math.pi, math.pi, ["x", "y"], 1.0, -math.pi ** 2, 0.0),
     "sphere-proj": (100, -5.12, 5.12, None, 256.0, 0.0, 100.0),

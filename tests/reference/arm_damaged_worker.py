@@ -1,5 +1,5 @@
 """A stand-in for a robot's trial harness: the planar arm with a stuck joint and a reaching
-task, written with numpy from DESIGN.md's arm definition (links 1/n, end effector
+task, written with numpy from README.md's arm definition (links 1/n, end effector
 p = sum_i (1/n)(cos a_i, sin a_i), a_i = theta_1 + ... + theta_i; Craig, Introduction to
 Robotics), speaking the external evaluator line protocol on stdin/stdout:
   in  {"id": N, "genome": [...]}    out  {"id": N, "fitness": F, "descriptor": [x, y]}

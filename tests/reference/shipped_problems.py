@@ -1,4 +1,4 @@
-"""Reference evaluation of the shipped problems with numpy, written from DESIGN.md
+"""Reference evaluation of the shipped problems with numpy, written from README.md
 "Shipped problems" independently of the C++ code.
 
 usage: shipped_problems.py PROBLEM GENOME_FILE

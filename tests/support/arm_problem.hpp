@@ -1,4 +1,4 @@
-// An in-process arm problem for engine tests, written from the DESIGN.md definition (planar arm,
+// An in-process arm problem for engine tests, written from the README.md definition (planar arm,
 // links 1/n, end effector = sum (1/n)(cos a_i, sin a_i), fitness = -variance of the angles).
 // Optionally reports NaN for a deterministic share of genomes, to exercise invalid handling.
 #pragma once

@@ -1,4 +1,4 @@
-// Archive files (format 1, DESIGN.md): bit-exact round trips, every bad-file case refused with
+// Archive files (format 1, README.md): bit-exact round trips, every bad-file case refused with
 // one line naming the file and the fault, and writes that never damage the previous file.
 // Damaged files are made with the HDF5 C++ library itself (the reference implementation of the
 // format, libhdf5 from Debian).

@@ -19,7 +19,7 @@ std::shared_ptr<GridSpace> unit_grid(std::int64_t nx, std::int64_t ny) {
                                      std::vector<std::int64_t>{nx, ny});
 }
 
-// The DESIGN.md formula, written out independently of GridSpace.
+// The README.md formula, written out independently of GridSpace.
 std::int64_t formula_cell(const std::vector<double>& d, const std::vector<double>& lo,
                           const std::vector<double>& hi, const std::vector<std::int64_t>& res) {
   std::int64_t flat = 0;
@@ -34,7 +34,7 @@ std::int64_t formula_cell(const std::vector<double>& d, const std::vector<double
 }  // namespace
 
 TEST_CASE("grid cell index follows the archive-format formula, edges included") {
-  // Source: DESIGN.md archive format 1, "Grid cell of a descriptor".
+  // Source: README.md archive format 1, "Grid cell of a descriptor".
   auto grid = unit_grid(10, 4);
   const std::vector<double> lo{-1, -1}, hi{1, 1};
   const std::vector<std::int64_t> res{10, 4};

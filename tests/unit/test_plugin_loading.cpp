@@ -83,7 +83,7 @@ struct Shipped {
 
 const std::vector<Shipped>& shipped() {
   static const std::vector<Shipped> list = {
-      // DESIGN.md "Shipped problems": arm 10 joints in [-pi, pi], tip in [-1, 1]^2, fitness
+      // README.md "Shipped problems": arm 10 joints in [-pi, pi], tip in [-1, 1]^2, fitness
       // [-pi^2, 0]; projections 100 parameters in [-5.12, 5.12], sums in [-256, 256], [0, 100].
       {"arm", 10, std::numbers::pi, 1.0, {"x", "y"}, -std::numbers::pi * std::numbers::pi, 0.0},
       {"sphere-proj", 100, 5.12, 256.0, {"sum_first_half", "sum_second_half"}, 0.0, 100.0},
@@ -115,7 +115,7 @@ TEST_CASE("the registry finds every shipped plugin", "[registry]") {
     if (fs::equivalent(fs::path(e.path).parent_path(), kPluginDir)) CHECK(e.error.empty());
 }
 
-TEST_CASE("shipped plugins describe the problems of DESIGN.md", "[registry]") {
+TEST_CASE("shipped plugins describe the problems of README.md", "[registry]") {
   use_plugin_path(kPluginDir);
   for (const auto& s : shipped()) {
     INFO(s.name);

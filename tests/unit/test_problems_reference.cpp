@@ -57,7 +57,7 @@ using tessera::projection::Kind;
 
 TEST_CASE("arm forward kinematics matches closed-form postures", "[arm]") {
   // Planar serial arm: p = sum_i l_i (cos a_i, sin a_i), a_i = theta_1 + ... + theta_i (Craig,
-  // Introduction to Robotics, planar manipulators); every link 1/n long (DESIGN.md).
+  // Introduction to Robotics, planar manipulators); every link 1/n long (README.md).
   SECTION("all joints at zero: the arm lies along the x axis, tip at (1, 0)") {
     for (std::size_t n : {1u, 2u, 10u, 37u}) {
       const Arm a = arm(std::vector<double>(n, 0.0));
@@ -126,7 +126,7 @@ TEST_CASE("Rastrigin: minimum 0 at the optimum and f(1) = 1 in one dimension", "
 }
 
 TEST_CASE("projection fitness on hand-computed points", "[projection]") {
-  // Fitness 100 (f_max - f) / f_max, f_max at x = -5.12 (DESIGN.md).
+  // Fitness 100 (f_max - f) / f_max, f_max at x = -5.12 (README.md).
   const std::size_t n = 100;
   SECTION("optimum scores 100, the far corner 0") {
     for (Kind kind : {Kind::kSphere, Kind::kRastrigin}) {
@@ -175,7 +175,7 @@ TEST_CASE("projection descriptors on hand-computed points", "[projection]") {
 }
 
 TEST_CASE("models agree with an independent numpy implementation", "[numpy]") {
-  // tests/reference/shipped_problems.py implements DESIGN.md with numpy (Debian python3-numpy).
+  // tests/reference/shipped_problems.py implements README.md with numpy (Debian python3-numpy).
   namespace fs = std::filesystem;
   const fs::path dir = fs::temp_directory_path() / ("tessera-ref-" + std::to_string(getpid()));
   fs::create_directories(dir);

@@ -132,7 +132,7 @@ std::size_t count_lines_with(const std::string& text, const std::string& needle)
   return count;
 }
 
-// Planar arm, DESIGN.md "Shipped problems": p = sum_i (1/n)(cos a_i, sin a_i) with
+// Planar arm, README.md "Shipped problems": p = sum_i (1/n)(cos a_i, sin a_i) with
 // a_i = theta_1 + ... + theta_i (forward kinematics of a planar serial chain, e.g. Craig,
 // Introduction to Robotics), fitness = -(population variance of the angles).
 void arm_closed_form(std::span<const double> theta, double& fitness, double& x, double& y) {
