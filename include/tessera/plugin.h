@@ -1,5 +1,5 @@
 /*
- * Tessera problem plugin ABI, version 1.
+ * Tessera problem plugin ABI, version 2 (docs/plugin-abi.md is the normative text).
  *
  * A problem plugin is a shared library exporting the functions declared below with C linkage.
  * Only plain C types cross this boundary: no C++ types, no exceptions. Errors come back as text
@@ -15,6 +15,10 @@
  *     always gives the same fitness, descriptor and extras. Tessera's bit-identical results for
  *     any number of threads depend on it.
  *
+ * Version 2 adds two optional exports, found by symbol: tsr_scene (the problem's static geometry)
+ * and tsr_trace (what one genome does over time). A plugin without them, and any version 1
+ * plugin, still loads; the host then draws and exports nothing for it.
+ *
  * Build a plugin with the CMake helper `tessera_add_plugin(NAME SOURCES...)` from
  * find_package(Tessera), or by hand: any shared library exporting these symbols works.
  */
@@ -28,8 +32,10 @@
 extern "C" {
 #endif
 
-/* Bumped whenever a declaration below changes incompatibly. */
-#define TSR_ABI_VERSION 1u
+/* Bumped whenever the ABI changes. The host loads every version from TSR_ABI_VERSION_OLDEST up to
+ * TSR_ABI_VERSION; tsr_scene and tsr_trace are looked up only in version 2 plugins. */
+#define TSR_ABI_VERSION 2u
+#define TSR_ABI_VERSION_OLDEST 1u
 
 #if defined(_WIN32)
 #define TSR_EXPORT __declspec(dllexport)
@@ -60,6 +66,9 @@ typedef struct tsr_metadata {
 /* Status codes returned by tsr_create (through a null result) and tsr_evaluate. */
 #define TSR_OK 0
 #define TSR_ERROR 1
+/* Version 2, tsr_scene and tsr_trace only: the caller's buffers are too small. The plugin wrote
+ * the sizes it needs into the tsr_figure and nothing else; call again with larger buffers. */
+#define TSR_TOO_SMALL 2
 
 /* Returns TSR_ABI_VERSION as compiled into the plugin. */
 TSR_EXPORT uint32_t tsr_abi_version(void);
@@ -89,6 +98,89 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
 
 /* Releases an instance. */
 TSR_EXPORT void tsr_destroy(tsr_instance* instance);
+
+/* ---- Version 2: figures (optional) --------------------------------------------------------- */
+
+/*
+ * A figure is a list of items. Every item is a table of `rows` x `columns` numbers (row-major,
+ * in the problem's own units) with a name and column names, or a note of text:
+ *
+ *   kind              columns                        meaning
+ *   TSR_POLYLINE      x, y  or  T, x, y              a line through the rows in order; T is a
+ *                                                    time, phase or index column (traces)
+ *   TSR_CIRCLES       x, y, r                        one circle per row
+ *   TSR_POINTS        x, y  or  T, x, y              points, labelled by the item's name
+ *   TSR_SERIES        T, v1, v2, ...                 time series against T (traces)
+ *   TSR_DESCRIPTOR_MAP  ix, sx, ox, iy, sy, oy       one row (scene only): every elite's
+ *                                                    descriptor d sits in the scene at
+ *                                                    (ox + sx * d[ix], oy + sy * d[iy])
+ *   TSR_NOTE          (none; rows = columns = 0)     `name` = key, `text` = value, e.g.
+ *                                                    "units" = "m", "caution" = "..."
+ *
+ * Style is a drawing hint; the host may ignore it.
+ */
+#define TSR_POLYLINE 1u
+#define TSR_CIRCLES 2u
+#define TSR_POINTS 3u
+#define TSR_SERIES 4u
+#define TSR_DESCRIPTOR_MAP 5u
+#define TSR_NOTE 6u
+
+#define TSR_STYLE_LINE 0u   /* an ordinary line or path */
+#define TSR_STYLE_WALL 1u   /* an obstacle's boundary: heavy and dark */
+#define TSR_STYLE_ZONE 2u   /* an area such as a goal zone: filled, translucent */
+#define TSR_STYLE_GUIDE 3u  /* construction or reference geometry: thin, dashed */
+#define TSR_STYLE_ANCHOR 4u /* a fixed point (base, ground pivot, start): a marker */
+#define TSR_STYLE_BODY 5u   /* the robot or mechanism at one instant: thick links, joint dots */
+
+/* Flag: a TSR_POLYLINE whose last row joins its first (a closed path over one cycle). */
+#define TSR_FLAG_CLOSED 1u
+
+typedef struct tsr_item {
+  uint32_t kind;  /* TSR_POLYLINE ... TSR_NOTE */
+  uint32_t style; /* TSR_STYLE_* */
+  uint32_t flags; /* TSR_FLAG_* */
+  size_t rows;
+  size_t columns;
+  size_t values; /* offset into tsr_figure.values of the first number (rows * columns of them) */
+  size_t name;   /* offset into tsr_figure.text of a NUL-terminated name, unique in the figure */
+  size_t text;   /* offset into tsr_figure.text of a NUL-terminated string: the column names
+                    separated by commas (data items) or the note's value (TSR_NOTE) */
+} tsr_item;
+
+/*
+ * The caller owns the three buffers and states their capacities; the plugin always sets the
+ * three counts to what the figure needs. When every count fits its capacity the plugin fills
+ * the buffers and returns TSR_OK; otherwise it writes nothing else and returns TSR_TOO_SMALL.
+ * Two calls therefore always suffice: the first with zero capacities (null buffers) learns the
+ * sizes, the second fills buffers of those sizes. Both calls must give the same figure (a
+ * figure is a pure function of the options and, for a trace, the genome).
+ */
+typedef struct tsr_figure {
+  tsr_item* items;
+  size_t item_capacity;
+  size_t item_count;
+  double* values;
+  size_t value_capacity;
+  size_t value_count;
+  char* text;
+  size_t text_capacity; /* bytes */
+  size_t text_count;    /* bytes, every terminating NUL included */
+} tsr_figure;
+
+/*
+ * Optional. The problem's static geometry in its own units: walls, zones, bases, pivots.
+ * Returns TSR_OK, TSR_TOO_SMALL, or TSR_ERROR with a one-line reason in error[0..error_size).
+ */
+TSR_EXPORT int tsr_scene(tsr_instance* instance, tsr_figure* figure, char* error,
+                         size_t error_size);
+
+/*
+ * Optional. What one genome (G numbers) does: paths and time series with a time, phase or index
+ * column first, and the body at chosen instants. Same return codes as tsr_scene.
+ */
+TSR_EXPORT int tsr_trace(tsr_instance* instance, const double* genome, tsr_figure* figure,
+                         char* error, size_t error_size);
 
 #ifdef __cplusplus
 }

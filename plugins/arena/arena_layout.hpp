@@ -10,8 +10,8 @@
 //   box X1 Y1 X2 Y2             the four walls of an axis-aligned rectangle
 //   mark NAME X Y RADIUS        a named location (letters, digits, '_' and '-')
 //
-// Header-only (standard library only) so that the plugin and the command-line tool read the
-// same files with the same code.
+// Header-only (standard library only) so that the plugin and the tests read the same files with
+// the same code.
 #pragma once
 
 #include <cctype>

@@ -33,6 +33,7 @@ constexpr const char* kName = "arena";
 struct tsr_instance {
   ArenaOptions options;
   std::unique_ptr<arena::Simulator> sim;
+  std::unique_ptr<arena::Simulator> tracer;  // records every step; made at the first trace
   glue::MetadataStore metadata;
 };
 
@@ -114,6 +115,60 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
     glue::write_error(error, error_size, ex.what());
   }
   return TSR_ERROR;
+}
+
+}  // extern "C"
+
+// Figures: the arena to scale (walls, marks, goal zone, start) with every elite's final position
+// from its descriptor; a trace is the robot's path at every step and its distance to the goal.
+extern "C" {
+
+TSR_EXPORT int tsr_scene(tsr_instance* instance, tsr_figure* figure, char* error,
+                         size_t error_size) {
+  return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
+    const arena::Layout& l = instance->sim->layout();
+    f.note("units", "m");
+    for (std::size_t i = 0; i < l.walls.size(); ++i) {
+      const auto& w = l.walls[i];
+      f.add(TSR_POLYLINE, TSR_STYLE_WALL, "wall " + std::to_string(i + 1), "x,y",
+            {w.a.x, w.a.y, w.b.x, w.b.y});
+    }
+    for (const auto& m : l.marks)
+      f.add(TSR_CIRCLES, TSR_STYLE_GUIDE, m.name, "x,y,r", {m.at.x, m.at.y, m.radius});
+    f.add(TSR_CIRCLES, TSR_STYLE_ZONE, "goal", "x,y,r", {l.goal.x, l.goal.y, l.goal_radius});
+    f.add(TSR_POINTS, TSR_STYLE_ANCHOR, "start", "x,y", {l.start.x, l.start.y});
+    // The last (x, y) pair of the descriptor is the final position, scaled to [0, 1].
+    const double d = static_cast<double>(instance->metadata.descriptor_names.size());
+    f.add(TSR_DESCRIPTOR_MAP, TSR_STYLE_LINE, "final position", "ix,sx,ox,iy,sy,oy",
+          {d - 2.0, l.width, 0.0, d - 1.0, l.height, 0.0});
+  });
+}
+
+TSR_EXPORT int tsr_trace(tsr_instance* instance, const double* genome, tsr_figure* figure,
+                         char* error, size_t error_size) {
+  return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
+    if (!instance->tracer) {
+      arena::RobotSettings settings = instance->options.robot;
+      settings.trace = settings.steps();
+      instance->tracer = std::make_unique<arena::Simulator>(instance->sim->layout(), settings);
+    }
+    arena::Simulator& sim = *instance->tracer;
+    const arena::Layout& l = sim.layout();
+    const arena::Episode ep = sim.run({genome, sim.genome_size()});
+    const double dt = sim.settings().dt;
+    // Row k is the pose after step k (k = 0: the start); after an early stop at the goal the
+    // robot stays where it stopped.
+    std::vector<double> path = {0.0, l.start.x, l.start.y};
+    std::vector<double> distance = {0.0, arena::norm(l.start - l.goal)};
+    for (std::size_t k = 0; k < ep.trace.size(); ++k) {
+      const double t = static_cast<double>(k + 1) * dt;
+      path.insert(path.end(), {t, ep.trace[k].x, ep.trace[k].y});
+      distance.insert(distance.end(), {t, arena::norm(ep.trace[k] - l.goal)});
+    }
+    f.note("units", "m, s");
+    f.add(TSR_POLYLINE, TSR_STYLE_LINE, "path", "t_s,x,y", path);
+    f.add(TSR_SERIES, TSR_STYLE_LINE, "goal distance", "t_s,goal_distance_m", distance);
+  });
 }
 
 }  // extern "C"

@@ -115,3 +115,50 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
 }
 
 }  // extern "C"
+
+// Figures: the base, the reach and every elite's end effector (the descriptor is the end
+// effector's position, so it maps onto the scene unchanged); a trace is the posture, joint by
+// joint, with the stuck joint applied as in evaluation.
+extern "C" {
+
+TSR_EXPORT int tsr_scene(tsr_instance* instance, tsr_figure* figure, char* error,
+                         size_t error_size) {
+  return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
+    f.note("units", "arm lengths (total length 1)");
+    f.add(TSR_CIRCLES, TSR_STYLE_GUIDE, "reach", "x,y,r", {0.0, 0.0, 1.0});
+    f.add(TSR_POINTS, TSR_STYLE_ANCHOR, "base", "x,y", {0.0, 0.0});
+    const auto& damage = instance->options.damage;
+    if (damage.has_target)
+      f.add(TSR_CIRCLES, TSR_STYLE_ZONE, "target", "x,y,r",
+            {damage.target_x, damage.target_y, 0.03});
+    f.add(TSR_DESCRIPTOR_MAP, TSR_STYLE_LINE, "end effector", "ix,sx,ox,iy,sy,oy",
+          {0.0, 1.0, 0.0, 1.0, 1.0, 0.0});
+  });
+}
+
+TSR_EXPORT int tsr_trace(tsr_instance* instance, const double* genome, tsr_figure* figure,
+                         char* error, size_t error_size) {
+  return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
+    const std::size_t n = instance->options.joints;
+    const auto& damage = instance->options.damage;
+    std::vector<double> theta(genome, genome + n);
+    if (damage.stuck_joint >= 0)
+      theta[static_cast<std::size_t>(damage.stuck_joint)] = damage.stuck_angle;
+    // Joint i sits at the end of link i; the same sums, in the same order, as the evaluation.
+    const double link = 1.0 / static_cast<double>(n);
+    std::vector<double> joints = {0.0, 0.0, 0.0}, angles;
+    double angle = 0.0, x = 0.0, y = 0.0;
+    for (std::size_t i = 0; i < n; ++i) {
+      angle += theta[i];
+      x += link * std::cos(angle);
+      y += link * std::sin(angle);
+      joints.insert(joints.end(), {static_cast<double>(i + 1), x, y});
+      angles.insert(angles.end(), {static_cast<double>(i + 1), theta[i], angle});
+    }
+    f.note("units", "arm lengths (total length 1); angles in radians");
+    f.add(TSR_POLYLINE, TSR_STYLE_BODY, "joints", "joint,x,y", joints);
+    f.add(TSR_SERIES, TSR_STYLE_LINE, "angles", "joint,relative_rad,absolute_rad", angles);
+  });
+}
+
+}  // extern "C"

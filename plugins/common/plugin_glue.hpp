@@ -147,6 +147,77 @@ struct MetadataStore {
   }
 };
 
+// Collects a figure (scene or trace) and hands it over with the two-call size protocol of
+// tsr_figure: sizes always, content only when every buffer is large enough.
+class FigureBuilder {
+ public:
+  // A data item; `columns` are the comma-separated column names, `values` rows * columns numbers.
+  void add(uint32_t kind, uint32_t style, std::string_view name, std::string_view columns,
+           const std::vector<double>& values, uint32_t flags = 0) {
+    const std::size_t n =
+        static_cast<std::size_t>(std::count(columns.begin(), columns.end(), ',')) + 1;
+    tsr_item item{};
+    item.kind = kind;
+    item.style = style;
+    item.flags = flags;
+    item.columns = n;
+    item.rows = values.size() / n;
+    item.values = values_.size();
+    item.name = text(name);
+    item.text = text(columns);
+    values_.insert(values_.end(), values.begin(), values.end());
+    items_.push_back(item);
+  }
+  void note(std::string_view key, std::string_view value) {
+    tsr_item item{};
+    item.kind = TSR_NOTE;
+    item.values = values_.size();
+    item.name = text(key);
+    item.text = text(value);
+    items_.push_back(item);
+  }
+
+  int write(tsr_figure* out) const {
+    out->item_count = items_.size();
+    out->value_count = values_.size();
+    out->text_count = text_.size();
+    if (items_.size() > out->item_capacity || values_.size() > out->value_capacity ||
+        text_.size() > out->text_capacity)
+      return TSR_TOO_SMALL;
+    std::copy(items_.begin(), items_.end(), out->items);
+    std::copy(values_.begin(), values_.end(), out->values);
+    std::copy(text_.begin(), text_.end(), out->text);
+    return TSR_OK;
+  }
+
+ private:
+  std::size_t text(std::string_view s) {
+    const std::size_t at = text_.size();
+    text_.append(s);
+    text_.append(1, '\0');
+    return at;
+  }
+
+  std::vector<tsr_item> items_;
+  std::vector<double> values_;
+  std::string text_;  // NUL-separated strings
+};
+
+// Runs `build(FigureBuilder&)` and writes the figure, turning exceptions into TSR_ERROR.
+template <class Build>
+int write_figure(tsr_figure* out, char* error, std::size_t error_size, Build&& build) {
+  try {
+    FigureBuilder figure;
+    build(figure);
+    return figure.write(out);
+  } catch (const std::exception& e) {
+    write_error(error, error_size, e.what());
+  } catch (...) {
+    write_error(error, error_size, "unknown error while drawing");
+  }
+  return TSR_ERROR;
+}
+
 }  // namespace tessera::plugin_glue
 
 // The four exports every plugin built on this glue writes alike: the ABI version, the problem

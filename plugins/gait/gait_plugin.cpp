@@ -11,11 +11,13 @@
 // motor_strength (12 factors in [0, 10] on servo gain and torque limit).
 #include <tessera/plugin.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <exception>
 #include <memory>
 #include <numbers>
+#include <stdexcept>
 #include <string>
 #include <vector>
 
@@ -169,6 +171,57 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
     return TSR_ERROR;
   }
   return TSR_OK;
+}
+
+}  // extern "C"
+
+// Figures, seen from above: the start and the heading to walk along (+x); a trace is the torso's
+// path, every foot's touchdowns and, against time, the torso height and the feet on the floor.
+extern "C" {
+
+TSR_EXPORT int tsr_scene(tsr_instance* instance, tsr_figure* figure, char* error,
+                         size_t error_size) {
+  return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
+    // A short arrow shaft along +x: the full reach (max_speed x duration) would dwarf the paths.
+    const auto& settings = instance->sim->settings();
+    const double shaft = std::min(0.5, settings.max_speed * settings.duration);
+    f.note("units", "m");
+    f.add(TSR_POLYLINE, TSR_STYLE_GUIDE, "heading +x", "x,y", {0.0, 0.0, shaft, 0.0});
+    f.add(TSR_POINTS, TSR_STYLE_ANCHOR, "start", "x,y", {0.0, 0.0});
+  });
+}
+
+TSR_EXPORT int tsr_trace(tsr_instance* instance, const double* genome, tsr_figure* figure,
+                         char* error, size_t error_size) {
+  return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
+    gait::GaitRecord record;
+    instance->sim->evaluate(genome, &record);
+    if (record.time.empty()) throw std::runtime_error("the simulation recorded no step");
+    // Positions relative to the torso's start, so that the path begins at the scene's start.
+    const double x0 = record.x.front(), y0 = record.y.front();
+    std::vector<double> path, height, contacts;
+    std::string contact_columns = "t_s";
+    for (const char* leg : kLegNames) contact_columns += std::string(",") + leg;
+    for (std::size_t k = 0; k < record.time.size(); ++k) {
+      path.insert(path.end(), {record.time[k], record.x[k] - x0, record.y[k] - y0});
+      height.insert(height.end(), {record.time[k], record.z[k]});
+      contacts.push_back(record.time[k]);
+      for (bool down : record.contact[k]) contacts.push_back(down ? 1.0 : 0.0);
+    }
+    f.note("units", "m, s");
+    f.add(TSR_POLYLINE, TSR_STYLE_LINE, "torso path", "t_s,x,y", path);
+    for (std::size_t leg = 0; leg < gait::kLegs; ++leg) {
+      std::vector<double> touches;
+      for (std::size_t i = 0; i < record.touch_x[leg].size(); ++i)
+        touches.insert(touches.end(), {record.touch_time[leg][i], record.touch_x[leg][i] - x0,
+                                       record.touch_y[leg][i] - y0});
+      if (!touches.empty())
+        f.add(TSR_POINTS, TSR_STYLE_LINE, std::string("touchdowns ") + kLegNames[leg], "t_s,x,y",
+              touches);
+    }
+    f.add(TSR_SERIES, TSR_STYLE_LINE, "torso height", "t_s,z", height);
+    f.add(TSR_SERIES, TSR_STYLE_LINE, "feet on the floor", contact_columns, contacts);
+  });
 }
 
 }  // extern "C"

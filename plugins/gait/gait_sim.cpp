@@ -163,7 +163,7 @@ void HexapodSim::apply_damage() {
   mj_setConst(m, data_);
 }
 
-GaitResult HexapodSim::evaluate(const double* genome) {
+GaitResult HexapodSim::evaluate(const double* genome, GaitRecord* record) {
   mjModel* m = model_;
   mjData* d = data_;
   GaitResult result;
@@ -186,6 +186,9 @@ GaitResult HexapodSim::evaluate(const double* genome) {
   const double x0 = d->xpos[3 * torso_body_];
   const auto steps = static_cast<long>(std::llround(settings_.duration / m->opt.timestep));
   std::array<long, kLegs> touching{};
+  std::array<bool, kLegs> was_down{};
+  const long stride =
+      record ? std::max(1L, static_cast<long>(std::llround(record->every / m->opt.timestep))) : 0;
   for (long step = 0; step < steps; ++step) {
     for (std::size_t j = 0; j < kJoints; ++j)
       d->ctrl[actuator_[j]] = static_cast<int>(j) == settings_.stuck_joint
@@ -206,6 +209,23 @@ GaitResult HexapodSim::evaluate(const double* genome) {
       }
     }
     for (std::size_t leg = 0; leg < kLegs; ++leg) touching[leg] += down[leg] ? 1 : 0;
+    if (record) {
+      for (std::size_t leg = 0; leg < kLegs; ++leg)
+        if (down[leg] && !was_down[leg]) {
+          record->touch_x[leg].push_back(d->geom_xpos[3 * foot_[leg]]);
+          record->touch_y[leg].push_back(d->geom_xpos[3 * foot_[leg] + 1]);
+          record->touch_time[leg].push_back(d->time - m->opt.timestep);
+        }
+      // mj_step computed positions and contacts before it advanced time by one step.
+      if (step % stride == 0) {
+        record->time.push_back(d->time - m->opt.timestep);
+        record->x.push_back(d->xpos[3 * torso_body_]);
+        record->y.push_back(d->xpos[3 * torso_body_ + 1]);
+        record->z.push_back(d->xpos[3 * torso_body_ + 2]);
+        record->contact.push_back(down);
+      }
+    }
+    was_down = down;
     // Tilted beyond 60 degrees: the torso's z axis has a vertical component below cos 60.
     if (d->xmat[9 * torso_body_ + 8] < 0.5) result.fell = true;
   }
@@ -218,6 +238,13 @@ GaitResult HexapodSim::evaluate(const double* genome) {
   const double limit = settings_.max_speed * settings_.duration;
   result.distance = std::clamp(d->xpos[3 * torso_body_] - x0, -limit, limit);
   result.final_height = d->xpos[3 * torso_body_ + 2];
+  if (record) {
+    record->time.push_back(d->time);
+    record->x.push_back(d->xpos[3 * torso_body_]);
+    record->y.push_back(d->xpos[3 * torso_body_ + 1]);
+    record->z.push_back(d->xpos[3 * torso_body_ + 2]);
+    record->contact.push_back(was_down);
+  }
   for (std::size_t leg = 0; leg < kLegs; ++leg)
     result.duty[leg] =
         steps > 0 ? static_cast<double>(touching[leg]) / static_cast<double>(steps) : 0.0;

@@ -9,6 +9,7 @@
 #include <optional>
 #include <stdexcept>
 #include <string>
+#include <vector>
 
 #include "gait/gait_controller.hpp"
 
@@ -44,6 +45,15 @@ struct GaitResult {
   bool valid = true;  // false when the simulation went unstable
 };
 
+// What one evaluation did over time, for drawings (tsr_trace): the torso every `every` seconds
+// and each foot where it touched down.
+struct GaitRecord {
+  double every = 0.02;                           // s between samples
+  std::vector<double> time, x, y, z;             // torso position
+  std::vector<std::array<bool, kLegs>> contact;  // feet on the floor at each sample
+  std::array<std::vector<double>, kLegs> touch_x{}, touch_y{}, touch_time{};  // touchdowns
+};
+
 class HexapodSim {
  public:
   // `model_file` empty: the MJCF text `builtin_xml`. Throws std::runtime_error with one line.
@@ -53,7 +63,8 @@ class HexapodSim {
   HexapodSim& operator=(const HexapodSim&) = delete;
 
   // genome: kGenomeSize values in [0, 1] (amplitude, phase, duty per joint).
-  GaitResult evaluate(const double* genome);
+  // `record`, when given, receives the torso path, the contacts and the touchdowns.
+  GaitResult evaluate(const double* genome, GaitRecord* record = nullptr);
 
   const GaitSettings& settings() const { return settings_; }
   double timestep() const;

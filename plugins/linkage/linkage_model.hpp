@@ -1,6 +1,6 @@
 // The `linkage` problem's kinematics: a planar four-bar linkage driven by its crank, analysed in
 // closed form over one crank revolution. Pure math on the standard library only, so that the
-// plugin, the tests, `tessera export-linkage` and the report all call exactly the same code.
+// plugin (evaluation and traces) and the tests call exactly the same code.
 //
 // Frame and names (Norton, Design of Machinery, ch. 4 notation): ground pivots O2 = (0, 0) and
 // O4 = (d, 0), so x runs along the ground link; crank O2-A of length a at angle theta2; coupler

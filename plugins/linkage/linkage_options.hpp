@@ -1,6 +1,5 @@
-// Options of the `linkage` problem ([problem.options] of a run file), read with toml++. Shared by
-// the plugin and by `tessera export-linkage`, which re-reads them from an archive's stored run
-// file so that the exported geometry uses the same branch and units as the run.
+// Options of the `linkage` problem ([problem.options] of a run file), read with toml++ by the
+// plugin; its traces (`tessera trace`, the report) use the same branch, sampling and units.
 //
 //   units              "mm" (default) | "cm" | "m" | "in": the unit of every length (a label; the
 //                      kinematics are scale-free)

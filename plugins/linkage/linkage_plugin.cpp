@@ -13,7 +13,9 @@
 #include <exception>
 #include <limits>
 #include <memory>
+#include <stdexcept>
 #include <string>
+#include <vector>
 
 #include "common/plugin_glue.hpp"
 #include "linkage/linkage_model.hpp"
@@ -108,6 +110,56 @@ TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* 
     }
   }
   return TSR_OK;
+}
+
+}  // extern "C"
+
+// Figures: the fixed pivot O2 (O4 depends on the genome's ground length, so it is in the trace);
+// a trace is every joint over one crank revolution at the run's sampling, the links at a crank
+// angle of 60 degrees and the transmission angle, with the kinematics-only caution.
+extern "C" {
+
+TSR_EXPORT int tsr_scene(tsr_instance* instance, tsr_figure* figure, char* error,
+                         size_t error_size) {
+  return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
+    f.note("units", instance->options.units);
+    f.add(TSR_POINTS, TSR_STYLE_ANCHOR, "O2", "x,y", {0.0, 0.0});
+  });
+}
+
+TSR_EXPORT int tsr_trace(tsr_instance* instance, const double* genome, tsr_figure* figure,
+                         char* error, size_t error_size) {
+  return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
+    const model::Options& o = instance->options;
+    const model::Dimensions m = model::Dimensions::from_genome(genome);
+    const auto poses = model::trace(m, o.settings.branch, o.settings.samples);
+    if (poses.empty())
+      throw std::runtime_error("the linkage does not assemble over a full crank revolution");
+    std::vector<double> a, b, p, mu;
+    for (const auto& pose : poses) {
+      const double deg = pose.crank_angle / model::kRadPerDeg;
+      a.insert(a.end(), {deg, pose.ax, pose.ay});
+      b.insert(b.end(), {deg, pose.bx, pose.by});
+      p.insert(p.end(), {deg, pose.px, pose.py});
+      mu.insert(mu.end(), {deg, pose.transmission_angle_deg()});
+    }
+    const model::Pose& s = poses[poses.size() / 6];
+    f.note("units", o.units + ", degrees");
+    f.note("branch", model::to_string(o.settings.branch));
+    f.note("frame", "O2 = (0, 0), O4 = (ground, 0); crank angle from +x, counter-clockwise");
+    f.note("caution",
+           "the transmission-angle and Grashof checks are kinematic only; loads, stresses, "
+           "tolerances and the machine-safety standards that apply where the mechanism is used "
+           "are the designer's to check");
+    f.add(TSR_POINTS, TSR_STYLE_ANCHOR, "ground pivots", "x,y", {0.0, 0.0, m.ground, 0.0});
+    f.add(TSR_POLYLINE, TSR_STYLE_LINE, "coupler point", "crank_deg,x,y", p, TSR_FLAG_CLOSED);
+    f.add(TSR_POLYLINE, TSR_STYLE_GUIDE, "crank pin", "crank_deg,x,y", a, TSR_FLAG_CLOSED);
+    f.add(TSR_POLYLINE, TSR_STYLE_GUIDE, "rocker pin", "crank_deg,x,y", b);
+    // O2-A-B-P-A-B-O4: crank, the coupler plate A-B-P, rocker.
+    f.add(TSR_POLYLINE, TSR_STYLE_BODY, "links", "x,y",
+          {0.0, 0.0, s.ax, s.ay, s.bx, s.by, s.px, s.py, s.ax, s.ay, s.bx, s.by, m.ground, 0.0});
+    f.add(TSR_SERIES, TSR_STYLE_LINE, "transmission angle", "crank_deg,mu_deg", mu);
+  });
 }
 
 }  // extern "C"

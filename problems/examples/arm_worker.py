@@ -22,6 +22,13 @@ Protocol
 * stdout carries answers only. Diagnostics go to stderr, which Tessera appends to a log file
   next to the archive.
 * When Tessera is done it closes stdin: leave the loop and exit.
+* Optional: `tessera report` and `tessera trace` may ask for the problem's scene and for the
+  trace of one genome:
+      {"id": 18, "scene": true}            ->  {"id": 18, "scene": {"items": [...]}}
+      {"id": 19, "trace": [0.25, ...]}     ->  {"id": 19, "trace": {"items": [...]}}
+  Each item is {"kind", "name", "style", "closed", "columns", "rows"} or a note {"kind":
+  "note", "name", "text"} (docs/process-protocol.md). A worker that does not serve them may
+  answer anything else or nothing: Tessera then draws and traces nothing for the problem.
 
 Faults are survivable but cost time: a worker that exits is restarted and its requests retried
 once; one that answers nothing for `timeout` seconds is killed and restarted, and that
@@ -52,13 +59,42 @@ def evaluate(genome):
     return fitness, [x, y]
 
 
+def scene():
+    """The arm's static geometry: its base, its reach, and where descriptors sit (x, y)."""
+    return {"items": [
+        {"kind": "note", "name": "units", "text": "arm lengths (total length 1)"},
+        {"kind": "circles", "name": "reach", "style": "guide", "columns": ["x", "y", "r"],
+         "rows": [[0.0, 0.0, 1.0]]},
+        {"kind": "points", "name": "base", "style": "anchor", "columns": ["x", "y"],
+         "rows": [[0.0, 0.0]]},
+        {"kind": "descriptor_map", "name": "end effector",
+         "columns": ["ix", "sx", "ox", "iy", "sy", "oy"], "rows": [[0, 1, 0, 1, 1, 0]]}]}
+
+
+def trace(genome):
+    """The posture: every joint's position, the base first and the end effector last."""
+    theta = np.asarray(genome, dtype=np.float64)
+    absolute = np.cumsum(theta)
+    link = 1.0 / theta.size
+    x = np.concatenate([[0.0], np.cumsum(link * np.cos(absolute))])
+    y = np.concatenate([[0.0], np.cumsum(link * np.sin(absolute))])
+    rows = [[float(i), float(x[i]), float(y[i])] for i in range(theta.size + 1)]
+    return {"items": [{"kind": "polyline", "name": "joints", "style": "body",
+                       "columns": ["joint", "x", "y"], "rows": rows}]}
+
+
 def answer(line):
     """The answer line (without newline) to one request line."""
     request = json.loads(line)
     ident = request["id"]
     try:
-        fitness, descriptor = evaluate(request["genome"])
-        reply = {"id": ident, "fitness": fitness, "descriptor": descriptor}
+        if "scene" in request:
+            reply = {"id": ident, "scene": scene()}
+        elif "trace" in request:
+            reply = {"id": ident, "trace": trace(request["trace"])}
+        else:
+            fitness, descriptor = evaluate(request["genome"])
+            reply = {"id": ident, "fitness": fitness, "descriptor": descriptor}
     except (ValueError, TypeError, KeyError) as error:
         reply = {"id": ident, "error": str(error)}
     return json.dumps(reply)

@@ -1,17 +1,19 @@
 // `tessera report ARCHIVE.h5 --out DIR [--axes NAME1,NAME2] [--objective NAME:min|max]...
 // [--within NAME=LO:HI]...`: writes DIR/index.html (self-contained) and the plots as SVG/PNG.
+#include <algorithm>
 #include <iostream>
 #include <memory>
 #include <string>
 #include <vector>
 
+#include "cli/archive_problem.hpp"
 #include "cli/commands.hpp"
 #include "cli/selection_args.hpp"
 #include "core/base/errors.hpp"
 #include "io/archive_file.hpp"
-#include "report/arena_panels.hpp"
 #include "report/html_report.hpp"
-#include "report/linkage_panels.hpp"
+#include "report/scene_panels.hpp"
+#include "report/svg_chart.hpp"
 
 namespace tessera::cli {
 namespace {
@@ -22,7 +24,69 @@ struct ReportOptions {
   std::string axes;
   std::vector<std::string> objectives;
   std::vector<std::string> within;
+  std::size_t traces = 5;
+  std::string cells;
 };
+
+// Rows of the elites whose traces are drawn: those in --cells, in the order given, else the
+// `count` fittest (ties: first stored first).
+std::vector<std::size_t> chosen_elites(const ReportOptions& o, const ArchiveSnapshot& s) {
+  std::vector<std::size_t> rows;
+  if (!o.cells.empty()) {
+    for (double value : parse_number_list(o.cells, "--cells")) {
+      const auto cell = static_cast<std::int64_t>(value);
+      std::size_t i = 0;
+      while (i < s.elite_count() && s.cell[i] != cell) ++i;
+      if (value != static_cast<double>(cell) || i == s.elite_count())
+        throw InputError(o.archive + ": --cells: cell " + tick_label(value) + " holds no elite");
+      rows.push_back(i);
+    }
+    return rows;
+  }
+  rows.resize(s.elite_count());
+  for (std::size_t i = 0; i < rows.size(); ++i) rows[i] = i;
+  std::stable_sort(rows.begin(), rows.end(),
+                   [&](std::size_t a, std::size_t b) { return s.fitness[a] > s.fitness[b]; });
+  rows.resize(std::min(o.traces, rows.size()));
+  return rows;
+}
+
+// The scene panels when the archive's problem draws itself; none (with one line on stderr
+// saying why, when it is a fault) otherwise: the rest of the report never depends on it.
+std::vector<ReportPanel> problem_panels(const ReportOptions& o, const ArchiveSnapshot& s) {
+  const auto rows = chosen_elites(o, s);
+  std::shared_ptr<const Problem> problem;
+  SceneDrawing drawing;
+  drawing.problem = s.problem;
+  try {
+    problem = open_archive_problem(s, o.archive);
+    auto scene = problem->scene();
+    if (!scene) return {};
+    drawing.scene = std::move(*scene);
+  } catch (const std::exception& e) {
+    std::cerr << "report: no scene drawn: " << e.what() << "\n";
+    return {};
+  }
+  drawing.elite_points = place_descriptors(drawing.scene, s.descriptor, s.descriptor_size());
+  const std::size_t g = s.genome_size();
+  try {
+    for (std::size_t row : rows) {
+      auto trace = problem->trace({s.genome.begin() + row * g, s.genome.begin() + (row + 1) * g});
+      if (!trace) {
+        drawing.trace_note = "The problem gives no traces.";
+        break;
+      }
+      drawing.traces.push_back(
+          {"cell " + std::to_string(s.cell[row]) + ", fitness " + tick_label(s.fitness[row]),
+           std::move(*trace)});
+    }
+  } catch (const std::exception& e) {
+    std::cerr << "report: traces not drawn: " << e.what() << "\n";
+    drawing.traces.clear();
+    drawing.trace_note = "Traces could not be drawn: see the report command's messages.";
+  }
+  return scene_panels(drawing);
+}
 
 int run_report(const ReportOptions& o) {
   const ArchiveSnapshot s = read_archive_file(o.archive);
@@ -47,9 +111,7 @@ int run_report(const ReportOptions& o) {
   settings.front_filter.within = parse_within(o.within, s, o.archive);
   settings.front_filter_text = describe_filter(settings.front_filter, s);
 
-  settings.extra_panels = linkage_panels(s, o.archive);  // empty unless a linkage archive
-  for (auto& panel : arena_panels(s, o.archive))         // empty unless an arena archive
-    settings.extra_panels.push_back(std::move(panel));
+  settings.extra_panels = problem_panels(o, s);
   const auto files = build_report(s, settings);
   write_report_files(o.out_dir, files);
   std::cout << "report: " << o.out_dir << "/index.html (" << files.size() << " files)\n";
@@ -76,6 +138,12 @@ void register_report(CLI::App& app) {
                   "the trade-off front");
   cmd->add_option("--within", o->within,
                   "constrain the front's elites: LO <= NAME <= HI; NAME=LO:HI, repeatable");
+  cmd->add_option("--traces", o->traces,
+                  "draw the problem's scene with the traces of the N fittest elites (default 5; "
+                  "0: the scene alone)")
+      ->check(CLI::Range(std::size_t{0}, std::size_t{24}));
+  cmd->add_option("--cells", o->cells, "C1,C2,...: draw the traces of the elites in these cells")
+      ->excludes("--traces");
   cmd->callback([o] { throw CLI::RuntimeError(run_report(*o)); });
 }
 

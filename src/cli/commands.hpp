@@ -14,7 +14,7 @@ void register_query(CLI::App& app);
 void register_front(CLI::App& app);
 void register_report(CLI::App& app);
 void register_adapt(CLI::App& app);
-void register_export_linkage(CLI::App& app);
+void register_trace(CLI::App& app);
 void register_transfer(CLI::App& app);
 void register_compare(CLI::App& app);
 

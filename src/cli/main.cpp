@@ -43,7 +43,7 @@ int main(int argc, char** argv) {
   tessera::cli::register_front(app);
   tessera::cli::register_report(app);
   tessera::cli::register_adapt(app);
-  tessera::cli::register_export_linkage(app);
+  tessera::cli::register_trace(app);
   tessera::cli::register_transfer(app);
   tessera::cli::register_compare(app);
   try {

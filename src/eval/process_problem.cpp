@@ -20,6 +20,7 @@
 #include <map>
 #include <mutex>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <set>
 #include <stdexcept>
 #include <string>
@@ -118,6 +119,9 @@ struct Request {
   double* fitness = nullptr;
   double* descriptor = nullptr;
   unsigned char* valid = nullptr;
+  // Optional messages (scene, trace): sent instead of a genome; the answer object goes to reply.
+  const nlohmann::ordered_json* message = nullptr;
+  nlohmann::json* reply = nullptr;
   bool suspect = false;          // was held by a worker that crashed: retried once, alone
   std::uint64_t line_start = 0;  // offset of its line in the worker's stdin stream
   Job* job = nullptr;
@@ -214,6 +218,36 @@ class WorkerPool {
     std::unique_lock lock(mutex_);
     done_.wait(lock, [&] { return job.remaining == 0; });
     if (!fatal_.empty()) throw std::runtime_error(fatal_);
+  }
+
+  // Sends one optional message (its fields besides the id) and waits for the answer object;
+  // std::nullopt when the worker gave none (crash, timeout, garbage). Safe from any thread.
+  std::optional<nlohmann::json> ask(const nlohmann::ordered_json& message) {
+    Job job;
+    job.remaining = 1;
+    double fitness = 0.0;
+    std::vector<double> descriptor(descriptor_size_);
+    unsigned char valid = 0;
+    nlohmann::json reply;
+    Request r;
+    r.fitness = &fitness;
+    r.descriptor = descriptor.data();
+    r.valid = &valid;
+    r.message = &message;
+    r.reply = &reply;
+    r.job = &job;
+    {
+      std::lock_guard lock(mutex_);
+      if (!fatal_.empty()) throw std::runtime_error(fatal_);
+      r.id = next_id_++;
+      incoming_.push_back(&r);
+    }
+    wake();
+    std::unique_lock lock(mutex_);
+    done_.wait(lock, [&] { return job.remaining == 0; });
+    if (!fatal_.empty()) throw std::runtime_error(fatal_);
+    if (valid == 0) return std::nullopt;
+    return reply;
   }
 
   std::vector<std::pair<std::string, std::uint64_t>> failure_counts() const {
@@ -349,7 +383,8 @@ class WorkerPool {
     std::fill(r->descriptor, r->descriptor + descriptor_size_,
               std::numeric_limits<double>::quiet_NaN());
     *r->valid = 0;
-    if (!reason.empty()) note(reason, detail);
+    // An optional message the worker does not serve is no failed evaluation.
+    if (!reason.empty() && r->message == nullptr) note(reason, detail);
     complete(r);
   }
 
@@ -439,7 +474,10 @@ class WorkerPool {
     worker.held.push_back(r);
     nlohmann::ordered_json line;
     line["id"] = r->id;
-    line["genome"] = std::vector<double>(r->genome, r->genome + genome_size_);
+    if (r->message != nullptr)
+      for (const auto& [key, value] : r->message->items()) line[key] = value;
+    else
+      line["genome"] = std::vector<double>(r->genome, r->genome + genome_size_);
     r->line_start = worker.bytes_queued;
     const std::size_t before = worker.write_buffer.size();
     worker.write_buffer += line.dump();
@@ -526,6 +564,12 @@ class WorkerPool {
     worker.progress = Clock::now();
     deaths_since_answer_ = 0;
 
+    if (r->reply != nullptr) {
+      *r->reply = std::move(answer);
+      *r->valid = 1;
+      complete(r);
+      return;
+    }
     if (answer.contains("error")) {
       const auto& text = answer["error"];
       fail(r, "worker error", one_line(text.is_string() ? text.get<std::string>() : text.dump()));
@@ -689,6 +733,58 @@ class WorkerPool {
   std::thread thread_;
 };
 
+// A worker's figure: {"items": [{"kind", "name", "style", "closed", "columns", "rows", "text"}]}
+// (docs/process-protocol.md). Throws std::invalid_argument naming the fault.
+Figure figure_from_json(const nlohmann::json& document) {
+  if (!document.is_object() || !document.contains("items") || !document["items"].is_array())
+    throw std::invalid_argument("expected an object with an array \"items\"");
+  Figure figure;
+  for (const auto& entry : document["items"]) {
+    if (!entry.is_object()) throw std::invalid_argument("an item is not an object");
+    const auto text_of = [&](const char* key, const std::string& fallback) {
+      if (!entry.contains(key)) return fallback;
+      if (!entry[key].is_string())
+        throw std::invalid_argument(std::string("item field \"") + key + "\" is not a string");
+      return one_line(entry[key].get<std::string>(), 4096);
+    };
+    FigureItem item;
+    item.name = text_of("name", "");
+    const std::string kind = text_of("kind", "");
+    const std::string style = text_of("style", "line");
+    const auto k = figure_kind_from(kind);
+    const auto st = figure_style_from(style);
+    if (!k) throw std::invalid_argument("item '" + item.name + "': unknown kind '" + kind + "'");
+    if (!st) throw std::invalid_argument("item '" + item.name + "': unknown style '" + style + "'");
+    item.kind = *k;
+    item.style = *st;
+    item.closed = entry.value("closed", false);
+    item.text = text_of("text", "");
+    if (entry.contains("columns")) {
+      if (!entry["columns"].is_array()) throw std::invalid_argument("\"columns\" is not an array");
+      for (const auto& c : entry["columns"]) {
+        if (!c.is_string()) throw std::invalid_argument("a column name is not a string");
+        item.columns.push_back(one_line(c.get<std::string>(), 256));
+      }
+    }
+    if (entry.contains("rows")) {
+      if (!entry["rows"].is_array()) throw std::invalid_argument("\"rows\" is not an array");
+      for (const auto& row : entry["rows"]) {
+        if (!row.is_array() || row.size() != item.columns.size())
+          throw std::invalid_argument("item '" + item.name + "': a row is not an array of " +
+                                      std::to_string(item.columns.size()) + " numbers");
+        for (const auto& v : row) {
+          if (!v.is_number())
+            throw std::invalid_argument("item '" + item.name + "': a value is not a number");
+          item.values.push_back(v.get<double>());
+        }
+      }
+    }
+    figure.items.push_back(std::move(item));
+  }
+  check_figure(figure);
+  return figure;
+}
+
 class ProcessInstance final : public ProblemInstance {
  public:
   explicit ProcessInstance(std::shared_ptr<WorkerPool> pool) : pool_(std::move(pool)) {}
@@ -712,7 +808,41 @@ class ProcessProblem final : public Problem {
     return pool_->failure_counts();
   }
 
+  std::optional<Figure> scene() const override {
+    nlohmann::ordered_json message;
+    message["scene"] = true;
+    return figure("scene", message);
+  }
+
+  std::optional<Figure> trace(const std::vector<double>& genome) const override {
+    nlohmann::ordered_json message;
+    message["trace"] = genome;
+    return figure("trace", message);
+  }
+
  private:
+  // The answer's member `key` is the figure; an "error" member is a failure; anything else
+  // (no answer, another reply) means that the worker does not serve this message.
+  std::optional<Figure> figure(const char* key, const nlohmann::ordered_json& message) const {
+    const auto reply = pool_->ask(message);
+    if (!reply || !reply->is_object()) return std::nullopt;
+    const std::string where =
+        "worker '" + info_.origin.substr(info_.origin.find(' ') + 1) + "': " + key;
+    if (reply->contains(key)) {
+      try {
+        return figure_from_json((*reply)[key]);
+      } catch (const std::invalid_argument& e) {
+        throw std::runtime_error(where + " answer is malformed: " + e.what());
+      }
+    }
+    if (reply->contains("error")) {
+      const auto& text = (*reply)["error"];
+      throw std::runtime_error(
+          where + " failed: " + one_line(text.is_string() ? text.get<std::string>() : text.dump()));
+    }
+    return std::nullopt;
+  }
+
   ProblemInfo info_;
   std::shared_ptr<WorkerPool> pool_;
 };

@@ -4,6 +4,9 @@
 // file. Each request is one line on a worker's stdin, each answer one line on its stdout:
 //   request  {"id": N, "genome": [g0, g1, ...]}
 //   answer   {"id": N, "fitness": F, "descriptor": [d0, d1, ...]}   or   {"id": N, "error": "text"}
+// Optional (docs/process-protocol.md), outside runs only: {"id": N, "scene": true} and
+// {"id": N, "trace": [g0, ...]}, answered by {"id": N, "scene" | "trace": {"items": [...]}}; any
+// other outcome means the worker does not serve them, and never counts as a failure.
 // Answers may come in any order; a worker may hold a few requests at once. Numbers are written in
 // the shortest form that reads back to the same double, so genomes reach the worker bit-exact.
 //

@@ -4,6 +4,7 @@
 #include <tessera/plugin.h>
 
 #include <cmath>
+#include <cstring>
 #include <mutex>
 #include <set>
 #include <stdexcept>
@@ -21,6 +22,8 @@ using DescribeFn = void (*)(const tsr_instance*, tsr_metadata*);
 using EvaluateFn = int (*)(tsr_instance*, std::size_t, const double*, double*, double*,
                            unsigned char*, double*, char*, std::size_t);
 using DestroyFn = void (*)(tsr_instance*);
+using SceneFn = int (*)(tsr_instance*, tsr_figure*, char*, std::size_t);
+using TraceFn = int (*)(tsr_instance*, const double*, tsr_figure*, char*, std::size_t);
 
 // Room for a plugin's error text; longer messages are cut by the plugin.
 constexpr std::size_t kErrorSize = 1024;
@@ -79,6 +82,8 @@ class PluginLibrary {
   DescribeFn describe = nullptr;
   EvaluateFn evaluate = nullptr;
   DestroyFn destroy = nullptr;
+  SceneFn scene = nullptr;  // optional, version 2
+  TraceFn trace = nullptr;  // optional, version 2
 
  private:
   PluginLibrary(std::string path, void* handle) : path_(std::move(path)), handle_(handle) {}
@@ -102,10 +107,16 @@ class PluginLibrary {
     if (!missing.empty())
       throw InputError(path_ + ": not a tessera plugin: missing symbol(s) " + missing);
     header_.abi_version = abi();
-    if (header_.abi_version != TSR_ABI_VERSION)
+    if (header_.abi_version < TSR_ABI_VERSION_OLDEST || header_.abi_version > TSR_ABI_VERSION)
       throw InputError(path_ + ": plugin ABI version " + std::to_string(header_.abi_version) +
-                       ", this tessera needs version " + std::to_string(TSR_ABI_VERSION) +
+                       ", this tessera loads versions " + std::to_string(TSR_ABI_VERSION_OLDEST) +
+                       " to " + std::to_string(TSR_ABI_VERSION) +
                        " (rebuild the plugin against this tessera's plugin.h)");
+    // Version 1 plugins never export these names; a stray symbol of that name is not trusted.
+    if (header_.abi_version >= 2) {
+      scene = reinterpret_cast<SceneFn>(dlsym(handle_, "tsr_scene"));
+      trace = reinterpret_cast<TraceFn>(dlsym(handle_, "tsr_trace"));
+    }
     const char* problem = name();
     if (problem == nullptr || !valid_problem_name(problem))
       throw InputError(path_ +
@@ -188,6 +199,50 @@ ProblemInfo read_metadata(const PluginLibrary& library, const tsr_instance* inst
   }
 }
 
+// Converts a filled tsr_figure, checking every offset against the sizes the plugin stated.
+Figure read_figure(const tsr_figure& f) {
+  const auto text_at = [&](std::size_t offset) -> std::string {
+    if (offset >= f.text_count) throw std::invalid_argument("a text offset is out of range");
+    const char* start = f.text + offset;
+    const void* end = std::memchr(start, '\0', f.text_count - offset);
+    if (end == nullptr) throw std::invalid_argument("a text is not NUL-terminated");
+    return one_line(std::string_view(start, static_cast<const char*>(end) - start));
+  };
+  Figure figure;
+  for (std::size_t i = 0; i < f.item_count; ++i) {
+    const tsr_item& raw = f.items[i];
+    if (raw.kind < TSR_POLYLINE || raw.kind > TSR_NOTE || raw.style > TSR_STYLE_BODY)
+      throw std::invalid_argument("item " + std::to_string(i) + " has an unknown kind or style");
+    FigureItem item;
+    item.kind = static_cast<FigureKind>(raw.kind - TSR_POLYLINE);
+    item.style = static_cast<FigureStyle>(raw.style);
+    item.closed = (raw.flags & TSR_FLAG_CLOSED) != 0;
+    item.name = text_at(raw.name);
+    const std::string text = text_at(raw.text);
+    if (item.kind == FigureKind::note) {
+      item.text = text;
+    } else {
+      for (std::size_t start = 0;;) {
+        const std::size_t comma = text.find(',', start);
+        item.columns.push_back(text.substr(start, comma - start));
+        if (comma == std::string::npos) break;
+        start = comma + 1;
+      }
+      if (raw.columns != item.columns.size())
+        throw std::invalid_argument("item '" + item.name + "' names " +
+                                    std::to_string(item.columns.size()) + " columns but has " +
+                                    std::to_string(raw.columns));
+      if (raw.rows > kMaxSize || raw.values > f.value_count ||
+          raw.rows * raw.columns > f.value_count - raw.values)
+        throw std::invalid_argument("item '" + item.name + "' reaches past the numbers");
+      item.values.assign(f.values + raw.values, f.values + raw.values + raw.rows * raw.columns);
+    }
+    figure.items.push_back(std::move(item));
+  }
+  check_figure(figure);
+  return figure;
+}
+
 class PluginInstance final : public ProblemInstance {
  public:
   PluginInstance(InstanceHandle handle, const ProblemInfo& info)
@@ -252,6 +307,24 @@ class PluginProblem final : public Problem {
     return std::make_unique<PluginInstance>(std::move(handle), info_);
   }
 
+  std::optional<Figure> scene() const override {
+    if (library_->scene == nullptr) return std::nullopt;
+    return draw("scene", [&](tsr_instance* instance, tsr_figure* f, char* error) {
+      return library_->scene(instance, f, error, kErrorSize);
+    });
+  }
+
+  std::optional<Figure> trace(const std::vector<double>& genome) const override {
+    if (library_->trace == nullptr) return std::nullopt;
+    if (genome.size() != info_.genome_size())
+      throw std::invalid_argument("problem '" + info_.name + "': a genome of " +
+                                  std::to_string(genome.size()) + " numbers, expected " +
+                                  std::to_string(info_.genome_size()));
+    return draw("trace", [&](tsr_instance* instance, tsr_figure* f, char* error) {
+      return library_->trace(instance, genome.data(), f, error, kErrorSize);
+    });
+  }
+
   static InstanceHandle create_instance(const std::shared_ptr<PluginLibrary>& library,
                                         const std::string& options) {
     char error[kErrorSize] = {};
@@ -266,11 +339,53 @@ class PluginProblem final : public Problem {
   }
 
  private:
+  // The two-call size protocol of tsr_figure on an instance of its own (figures are drawn
+  // outside the evaluation loop, one at a time).
+  template <class Call>
+  Figure draw(const char* what, Call&& call) const {
+    std::lock_guard lock(figure_mutex_);
+    if (!figure_instance_) figure_instance_ = create_instance(library_, options_);
+    const std::string where = library_->path() + ": problem '" + info_.name + "': " + what;
+    std::vector<tsr_item> items;
+    std::vector<double> values;
+    std::vector<char> text;
+    tsr_figure f{};
+    for (int attempt = 0; attempt < 2; ++attempt) {
+      items.resize(f.item_count);
+      values.resize(f.value_count);
+      text.resize(f.text_count);
+      f = tsr_figure{items.data(), items.size(), 0, values.data(), values.size(), 0,
+                     text.data(),  text.size(),  0};
+      char error[kErrorSize] = {};
+      const int status = call(figure_instance_.get(), &f, error);
+      if (status == TSR_OK) {
+        if (f.item_count > items.size() || f.value_count > values.size() ||
+            f.text_count > text.size())
+          throw std::runtime_error(where + ": the plugin wrote more than the buffers hold");
+        try {
+          return read_figure(f);
+        } catch (const std::invalid_argument& e) {
+          throw std::runtime_error(where + " is inconsistent: " + e.what());
+        }
+      }
+      if (status != TSR_TOO_SMALL) {
+        std::string reason = buffer_text(error);
+        if (reason.empty()) reason = "no reason given (status " + std::to_string(status) + ")";
+        throw std::runtime_error(where + " failed: " + reason);
+      }
+      if (f.item_count > kMaxSize || f.value_count > kMaxSize || f.text_count > kMaxSize)
+        throw std::runtime_error(where + ": the plugin asks for impossible sizes");
+    }
+    throw std::runtime_error(where + ": the plugin asked for larger buffers twice");
+  }
+
   std::shared_ptr<PluginLibrary> library_;
   std::string options_;
   ProblemInfo info_;
   mutable std::mutex mutex_;
   mutable InstanceHandle spare_;
+  mutable std::mutex figure_mutex_;
+  mutable InstanceHandle figure_instance_;
 };
 
 }  // namespace

@@ -17,7 +17,8 @@ struct PluginHeader {
   std::uint32_t abi_version = 0;  // tsr_abi_version()
 };
 
-// Opens the file, checks that every tsr_ symbol is present and that the ABI version matches, and
+// Opens the file, checks that every required tsr_ symbol is present and that the ABI version is
+// one this tessera loads (1 or 2; tsr_scene and tsr_trace are optional in version 2), and
 // returns its problem name. Throws InputError "<path>: <fault>".
 PluginHeader inspect_plugin_file(const std::string& path);
 

@@ -6,10 +6,12 @@
 
 #include <cstdint>
 #include <memory>
+#include <optional>
 #include <string>
 #include <vector>
 
 #include "core/base/types.hpp"
+#include "problems/figure.hpp"
 
 namespace tessera {
 
@@ -45,6 +47,16 @@ class Problem {
   virtual std::unique_ptr<ProblemInstance> make_instance() const = 0;
   // Failure counts by reason for problems that can fail per evaluation (external processes).
   virtual std::vector<std::pair<std::string, std::uint64_t>> failure_counts() const { return {}; }
+
+  // Optional capabilities (plugin ABI version 2, process protocol scene/trace messages).
+  // std::nullopt: the problem gives none. std::runtime_error with one line when the problem
+  // could not draw. Safe from any thread; not meant for the evaluation loop.
+  // The problem's static geometry in its own units.
+  virtual std::optional<Figure> scene() const { return std::nullopt; }
+  // What one genome (genome_size() numbers) does.
+  virtual std::optional<Figure> trace(const std::vector<double>& /*genome*/) const {
+    return std::nullopt;
+  }
 };
 
 // Throws std::invalid_argument naming the problem if the description is inconsistent.

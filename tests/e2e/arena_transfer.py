@@ -44,16 +44,17 @@ run("resume", os.path.join(split, "archive.h5"), "-n", 2000, "--threads", 2, "--
 assert_same_run(read_archive(os.path.join(whole, "archive.h5")),
                 read_archive(os.path.join(split, "archive.h5")))
 
-# The report draws the arena: its 4 border walls, every elite's final position, 5 best paths.
+# The report draws the arena's scene: its 4 border walls, every elite's final position, the
+# paths of the 5 best.
 report = os.path.join(work, "report")
 run("report", os.path.join(whole, "archive.h5"), "--out", report)
-panels = [f for f in os.listdir(report) if "arena" in f and f.endswith(".svg")]
+panels = [f for f in os.listdir(report) if "scene-arena" in f and f.endswith(".svg")]
 assert len(panels) == 1, os.listdir(report)
 svg = open(os.path.join(report, panels[0])).read()
-assert svg.count("<line ") == 4, svg.count("<line ")
-assert svg.count("<polyline ") == 5
+assert svg.count('stroke="#222" stroke-width="2.5"') == 4
+assert svg.count('stroke-width="1.4"') == 5  # one thin path per traced elite
 elite_count = len(read_archive(os.path.join(whole, "archive.h5"))["elites/fitness"])
-assert svg.count('r="2" fill="#555"') == elite_count
+assert "the final position of every elite (%d)" % elite_count in svg
 assert "arena" in open(os.path.join(report, "index.html")).read().lower()
 
 # Transfer into the maze.

@@ -32,7 +32,7 @@ by_name = {p["name"]: p for p in listing["problems"]}
 c = by_name.get("cantilever")
 assert c is not None, "cantilever not listed: %s" % sorted(by_name)
 assert os.path.samefile(c["plugin"], plugin), c["plugin"]
-assert c["abi_version"] == 1 and c["genome_size"] == 3, c
+assert c["abi_version"] == 2 and c["genome_size"] == 3, c
 assert c["descriptor_names"] == ["reach_m", "log10_deflection_m"], c
 for name in ("arm", "sphere-proj", "rastrigin-proj"):
     assert name in by_name, "%s not found in the install prefix" % name

@@ -32,7 +32,7 @@ for name, (g, lo, hi, names, dbound, flo, fhi) in expect.items():
     if names:
         assert p["descriptor_names"] == names, name
     assert abs(p["fitness_lower"] - flo) < 1e-12 and p["fitness_upper"] == fhi, name
-    assert p["abi_version"] == 1 and p["plugin"].endswith("/tessera-plugin-%s.so" % name), p
+    assert p["abi_version"] == 2 and p["plugin"].endswith("/tessera-plugin-%s.so" % name), p
     assert p["plugin"] in text and name + "\n" in text, name
 refused = {r["path"]: r["reason"] for r in listing["refused"]}
 faults = {"bad-abi": "ABI version 42", "bad-missing": "missing symbol(s) tsr_evaluate",

@@ -424,3 +424,55 @@ TEST_CASE("destroying the problem ends and reaps every worker") {
   REQUIRE(::waitpid(-1, &status, WNOHANG) == -1);
   REQUIRE(errno == ECHILD);  // no child left, not even a zombie
 }
+
+TEST_CASE("a worker that serves scene and trace requests is drawn", "[figures]") {
+  constexpr std::size_t kJoints = 7;
+  auto spec =
+      make_spec({kPython, std::string(TESSERA_SOURCE_DIR) + "/problems/examples/arm_worker.py"}, 2,
+                30.0, kJoints, 2);
+  auto problem = open_process_problem(spec);
+  const auto scene = problem->scene();
+  REQUIRE(scene);
+  CHECK(scene->note("units") == "arm lengths (total length 1)");
+  // The reach circle of an arm of total length 1 about the base (closed form: |p| <= 1).
+  bool reach = false;
+  for (const auto& item : scene->items)
+    if (item.name == "reach")
+      reach = item.kind == FigureKind::circles && item.values == std::vector<double>{0, 0, 1};
+  CHECK(reach);
+  // The traced end joint is the evaluated descriptor, for genomes evaluated in the same run.
+  Batch batch = uniform_batch(20, kJoints, 2, -std::numbers::pi, std::numbers::pi, 5);
+  ThreadEvaluator evaluator(problem, 2);
+  evaluator.evaluate(batch);
+  for (std::size_t i = 0; i < batch.count; ++i) {
+    const auto genome = batch.genome(i);
+    const auto trace = problem->trace({genome.begin(), genome.end()});
+    REQUIRE(trace);
+    REQUIRE(trace->items.size() == 1);
+    const FigureItem& joints = trace->items[0];
+    REQUIRE(joints.rows() == kJoints + 1);
+    CHECK(joints.at(0, 1) == 0.0);  // the base
+    CHECK(joints.at(0, 2) == 0.0);
+    double fitness, x, y;
+    arm_closed_form(genome, fitness, x, y);
+    CHECK(std::abs(joints.at(kJoints, 1) - batch.descriptor(i)[0]) <= 1e-12);
+    CHECK(std::abs(joints.at(kJoints, 2) - batch.descriptor(i)[1]) <= 1e-12);
+    CHECK(std::abs(joints.at(kJoints, 1) - x) <= 1e-12);
+  }
+  CHECK(counts_of(*problem).empty());
+}
+
+TEST_CASE("a worker that knows no scene or trace request gives none and keeps working",
+          "[figures]") {
+  // echo_worker.py reads request["genome"]: a scene or trace request makes it exit (a KeyError).
+  auto problem =
+      open_process_problem(make_spec({kPython, fixture("echo_worker.py")}, 1, 30.0, 3, 2));
+  CHECK_FALSE(problem->scene());
+  CHECK_FALSE(problem->trace({0.1, 0.2, 0.3}));
+  Batch batch = uniform_batch(16, 3, 2, -4.0, 4.0, 9);
+  ThreadEvaluator evaluator(problem, 2);
+  evaluator.evaluate(batch);
+  for (std::size_t i = 0; i < batch.count; ++i) require_fixture_answer(batch, i);
+  // The optional requests it could not serve count as no failed evaluation.
+  CHECK(counts_of(*problem).empty());
+}
