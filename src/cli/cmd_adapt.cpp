@@ -5,6 +5,7 @@
 // operator (--ask). Prints each trial and the final choice; --log keeps the trials in HDF5.
 #include <toml++/toml.h>
 
+#include <algorithm>
 #include <charconv>
 #include <cmath>
 #include <cstdio>
@@ -37,8 +38,10 @@ namespace fs = std::filesystem;
 struct AdaptOptions {
   std::string archive;
   std::string run_file;
-  std::size_t max_trials = AdaptSettings{}.max_trials;
-  double stop_fraction = AdaptSettings{}.stop_fraction;
+  std::int64_t max_trials = static_cast<std::int64_t>(AdaptSettings{}.max_trials);
+  double stop_gap = AdaptSettings{}.stop_gap;
+  std::optional<double> good_enough;
+  bool brute_force = false;
   double kappa = AdaptSettings{}.kappa;
   double length_scale = GpSettings{}.length_scale;
   double noise = GpSettings{}.noise;
@@ -123,6 +126,30 @@ class ProblemSource final : public TrialSource {
   }
   std::string end_reason() const override {
     return "the trial process gave no measurement (its messages are above)";
+  }
+  // Every genome of `genomes` (row-major, `count` rows), for the brute-force reference; a failed
+  // evaluation counts as the lowest possible fitness, as in a trial.
+  std::vector<double> evaluate_all(const std::vector<double>& genomes, std::size_t count) {
+    const ProblemInfo& info = problem_->info();
+    const std::size_t g = info.genome_size();
+    constexpr std::size_t kChunk = 256;
+    std::vector<double> out(count, lowest_);
+    for (std::size_t first = 0; first < count; first += kChunk) {
+      const std::size_t rows = std::min(kChunk, count - first);
+      Batch batch;
+      batch.resize(rows, g, info.descriptor_size(), info.extra_names.size());
+      std::copy(genomes.begin() + static_cast<long>(first * g),
+                genomes.begin() + static_cast<long>((first + rows) * g), batch.genomes.begin());
+      try {
+        instance_->evaluate(batch, 0, rows);
+      } catch (const std::exception&) {
+        continue;  // the whole chunk counts as failed
+      }
+      for (std::size_t i = 0; i < rows; ++i)
+        if (batch.valid[i] != 0 && std::isfinite(batch.fitness[i]))
+          out[first + i] = batch.fitness[i];
+    }
+    return out;
   }
 
  private:
@@ -222,9 +249,28 @@ int run_adapt(const AdaptOptions& o) {
     throw InputError(
         "say where the trials run: --on RUNFILE (simulation), --trial-process CMD "
         "or --ask");
+  // Command-line values are checked here, so that the message names the option.
+  const auto bad = [](const std::string& option, double value, const std::string& rule) {
+    return InputError(option + " " + brief(value) + ": " + rule);
+  };
+  if (o.max_trials < 1)
+    throw InputError("--max-trials " + std::to_string(o.max_trials) + ": must be at least 1");
+  if (!(o.trial_timeout > 0.0) || !std::isfinite(o.trial_timeout))
+    throw bad("--trial-timeout", o.trial_timeout, "must be a number of seconds > 0");
+  if (!(o.stop_gap >= 0.0 && o.stop_gap <= 1.0))
+    throw bad("--stop-gap", o.stop_gap, "must be in [0, 1] (a share of the map's span)");
+  if (o.good_enough && !std::isfinite(*o.good_enough))
+    throw bad("--good-enough", *o.good_enough, "must be a finite number");
+  if (!(o.kappa >= 0.0) || !std::isfinite(o.kappa))
+    throw bad("--kappa", o.kappa, "must be a finite number >= 0");
+  if (!(o.length_scale > 0.0) || !std::isfinite(o.length_scale))
+    throw bad("--length-scale", o.length_scale, "must be a finite number > 0");
+  if (!(o.noise >= 0.0) || !std::isfinite(o.noise))
+    throw bad("--noise", o.noise, "must be a finite number >= 0");
   AdaptSettings settings;
-  settings.max_trials = o.max_trials;
-  settings.stop_fraction = o.stop_fraction;
+  settings.max_trials = static_cast<std::size_t>(o.max_trials);
+  settings.stop_gap = o.stop_gap;
+  settings.good_enough = o.good_enough;
   settings.kappa = o.kappa;
   settings.gp.length_scale = o.length_scale;
   settings.gp.noise = o.noise;
@@ -233,6 +279,10 @@ int run_adapt(const AdaptOptions& o) {
   } catch (const std::invalid_argument& e) {
     throw InputError(std::string("bad setting: ") + e.what());
   }
+  if (o.brute_force && (o.ask || !o.trial_process.empty() || o.run_file.empty()))
+    throw InputError(
+        "--brute-force: only with trials in simulation (--on RUNFILE alone): it "
+        "evaluates every elite of the map under the damage");
   if (!o.log.empty()) {
     const fs::path log(o.log);
     const fs::path folder = log.has_parent_path() ? log.parent_path() : fs::path(".");
@@ -281,6 +331,7 @@ int run_adapt(const AdaptOptions& o) {
 
   // The trial source; the lowest possible fitness stands in for a failed trial.
   std::unique_ptr<TrialSource> source;
+  ProblemSource* simulation = nullptr;
   if (o.ask) {
     source = std::make_unique<OperatorSource>(d);
   } else if (!o.trial_process.empty()) {
@@ -309,7 +360,10 @@ int run_adapt(const AdaptOptions& o) {
                        " genome values and " + std::to_string(info.descriptor_size()) +
                        " descriptor values, the archive " + std::to_string(g) + " and " +
                        std::to_string(d));
-    source = std::make_unique<ProblemSource>(problem, "simulation", false, info.fitness_lower);
+    auto problem_source =
+        std::make_unique<ProblemSource>(problem, "simulation", false, info.fitness_lower);
+    simulation = problem_source.get();
+    source = std::move(problem_source);
   }
 
   const std::vector<double> points = normalise_descriptors(
@@ -322,7 +376,11 @@ int run_adapt(const AdaptOptions& o) {
   log.source = source->name();
   log.prior = prior_text;
   log.kappa = settings.kappa;
-  log.stop_fraction = settings.stop_fraction;
+  log.stop_gap = settings.stop_gap;
+  log.good_enough = settings.good_enough.value_or(std::nan(""));
+  log.expected_best = loop.expected_best();
+  log.expected_span = loop.expected_span();
+  log.brute_force_best = std::nan("");
   log.length_scale = settings.gp.length_scale;
   log.signal_variance = settings.gp.signal_variance;
   log.noise = settings.gp.noise;
@@ -336,9 +394,14 @@ int run_adapt(const AdaptOptions& o) {
     std::cout << "adapting with " << with_thousands(n) << " elites of " << o.archive
               << "; trials: " << source->name()
               << (o.run_file.empty() ? "" : " (" + o.run_file + ")") << "\n"
-              << "prior: " << prior_text << "; kappa " << brief(settings.kappa) << ", stop at "
-              << brief(settings.stop_fraction) << " of the best prediction, at most "
-              << settings.max_trials << " trials\n"
+              << "prior: " << prior_text << "; kappa " << brief(settings.kappa) << "\n"
+              << "stop: once a trial measures at least " << brief(loop.stop_level())
+              << " (the map's best expectation " << brief(loop.expected_best())
+              << " less the stop gap " << brief(settings.stop_gap) << " x its span "
+              << brief(loop.expected_span()) << ")"
+              << (settings.good_enough ? " or the good-enough level " + brief(*settings.good_enough)
+                                       : std::string())
+              << "; at most " << settings.max_trials << " trials\n"
               << "trial      cell     prior   predicted   +/- sigma    measured\n";
   }
 
@@ -390,6 +453,21 @@ int run_adapt(const AdaptOptions& o) {
     }
   }
 
+  // The reference a simulation allows: every elite of the map evaluated under the damage.
+  struct BruteForce {
+    double best = 0.0;
+    std::size_t elite = 0;
+  };
+  std::optional<BruteForce> brute;
+  if (o.brute_force && simulation != nullptr) {
+    const std::vector<double> all = simulation->evaluate_all(map.genome, n);
+    BruteForce b;
+    b.elite = static_cast<std::size_t>(std::max_element(all.begin(), all.end()) - all.begin());
+    b.best = all[b.elite];
+    brute = b;
+    log.brute_force_best = b.best;
+  }
+
   const auto best = loop.best_trial();
   log.stop_reason = loop.stop_reason();
   log.chosen = best ? static_cast<std::int64_t>(*best) : -1;
@@ -410,7 +488,9 @@ int run_adapt(const AdaptOptions& o) {
     out["source"] = source->name();
     out["prior"] = target ? "target" : "map fitness";
     out["settings"] = {{"kappa", settings.kappa},
-                       {"stop_fraction", settings.stop_fraction},
+                       {"stop_gap", settings.stop_gap},
+                       {"good_enough", settings.good_enough ? nlohmann::json(*settings.good_enough)
+                                                            : nlohmann::json(nullptr)},
                        {"max_trials", settings.max_trials},
                        {"length_scale", settings.gp.length_scale},
                        {"signal_variance", settings.gp.signal_variance},
@@ -430,6 +510,22 @@ int run_adapt(const AdaptOptions& o) {
     out["stop_reason"] = log.stop_reason;
     out["criterion_met"] = loop.criterion_met();
     out["max_predicted"] = loop.max_posterior_mean();
+    out["trials_used"] = loop.trials().size();
+    out["expected_best"] = loop.expected_best();
+    out["expected_span"] = loop.expected_span();
+    out["stop_level"] = loop.stop_level();
+    // Gaps are in fitness units, >= 0 when the choice falls short.
+    out["gap_to_expected"] =
+        best ? nlohmann::json(loop.expected_best() - log.trials[*best].measured) : nullptr;
+    if (brute) {
+      out["brute_force"] = {
+          {"best", brute->best},
+          {"elite", brute->elite},
+          {"cell", map.cell[brute->elite]},
+          {"gap", best ? nlohmann::json(brute->best - log.trials[*best].measured) : nullptr}};
+    } else {
+      out["brute_force"] = nullptr;
+    }
     if (best) {
       const TrialRecord& r = log.trials[*best];
       out["choice"] = {{"trial", *best + 1},        {"cell", r.cell},   {"elite", r.elite},
@@ -442,8 +538,18 @@ int run_adapt(const AdaptOptions& o) {
     std::cout << out.dump(2) << "\n";
   } else {
     std::cout << "stopped: " << log.stop_reason << "\n";
+    std::cout << "trials used: " << loop.trials().size() << " of " << settings.max_trials << "\n";
     if (best) {
       const TrialRecord& r = log.trials[*best];
+      std::cout << "gap: the choice measured " << brief(r.measured) << ", "
+                << brief(loop.expected_best() - r.measured) << " below the map's best expectation "
+                << brief(loop.expected_best()) << "\n";
+      if (brute)
+        std::cout << "brute force: the best elite of the map under this damage (cell "
+                  << map.cell[brute->elite] << ") measures " << brief(brute->best)
+                  << "; the choice is " << brief(brute->best - r.measured) << " below it ("
+                  << with_thousands(n) << " evaluations, against " << loop.trials().size()
+                  << " trials)\n";
       std::cout << "choice: trial " << *best + 1 << ", cell " << r.cell << ", measured "
                 << brief(r.measured) << " (the map predicted " << brief(r.prior) << ")\n"
                 << "  genome " << vector_text(r.genome) << "\n"
@@ -467,7 +573,8 @@ void register_adapt(CLI::App& app) {
       "Recover after damage by trial and error over an archive's elites (after Cully, Clune,\n"
       "Tarapore & Mouret, Nature 2015): a Gaussian process over the descriptor space, with the\n"
       "map's fitness as prior mean, picks the next elite to try by mean + kappa * sigma and\n"
-      "stops once the best trial reaches a fraction of the best prediction. Trials run on the\n"
+      "stops once the best trial comes within a gap of what the map expected of its best elite\n"
+      "(or reaches --good-enough, or the trial budget is spent). Trials run on the\n"
       "damaged problem of a run file (simulation), on a process speaking the evaluator line\n"
       "protocol (--trial-process, e.g. a robot's harness), or are typed in (--ask).\n"
       "Before a genome drives real hardware: validate it in simulation first, start at low\n"
@@ -477,11 +584,18 @@ void register_adapt(CLI::App& app) {
                   "run file of the damaged problem (simulation); with --trial-process or --ask "
                   "it only supplies the task (e.g. a target)")
       ->check(CLI::ExistingFile);
-  cmd->add_option("--max-trials", o->max_trials, "trial budget (default 20)")
-      ->check(CLI::PositiveNumber);
-  cmd->add_option("--stop-fraction", o->stop_fraction,
-                  "stop once the best trial reaches this fraction of the best prediction "
-                  "(default 0.9, the published alpha, from memory)");
+  cmd->add_option("--max-trials", o->max_trials, "trial budget (default 20)");
+  cmd->add_option("--stop-gap", o->stop_gap,
+                  "stop once the best trial is within this share of the map's span of expected "
+                  "fitness (highest minus lowest prior) of the map's best expectation (default "
+                  "0.01; 0 = only the map's best itself)");
+  cmd->add_option("--good-enough", o->good_enough,
+                  "also stop once a trial measures at least this fitness (absolute, in the "
+                  "problem's units, e.g. -0.02 for 2 cm from an arm's target)");
+  cmd->add_flag("--brute-force", o->brute_force,
+                "simulation only: afterwards evaluate every elite of the map under the damage "
+                "and report the best of them and the choice's gap to it (one evaluation per "
+                "elite)");
   cmd->add_option("--kappa", o->kappa,
                   "exploration weight of sigma in the choice (default 0.05, published, from "
                   "memory)");
@@ -497,8 +611,7 @@ void register_adapt(CLI::App& app) {
                   "command of a process that runs each trial: one line {\"id\":N,\"genome\":[...]} "
                   "in, one line {\"id\":N,\"fitness\":F,\"descriptor\":[...]} out");
   cmd->add_option("--trial-timeout", o->trial_timeout,
-                  "seconds one --trial-process trial may take (default 3600)")
-      ->check(CLI::PositiveNumber);
+                  "seconds one --trial-process trial may take (default 3600)");
   cmd->add_flag("--ask", o->ask, "print each genome and read the measured performance from stdin");
   cmd->add_option("--set", o->overrides,
                   "override a key of the run file, SECTION.KEY=VALUE (repeatable), e.g. "

@@ -76,10 +76,24 @@ int run_front(const FrontOptions& o) {
                    {"objectives", objective_names, 8},
                    {"fitness", {}},
                    {"descriptor", s.descriptor_names, 8},
+                   {"at_bound", {}},
                    {"genome", genome_parts, 4}};
   const std::size_t x = s.extra_size();
   if (x > 0) table.columns.push_back({"extras", s.extra_names, 4});
   const std::size_t d = s.descriptor_size(), g = s.genome_size();
+  // Descriptors sitting exactly at a bound: a value beyond the bounds is stored clamped there,
+  // so the true value may lie further out ("straightness=max" for a path worse than the range).
+  const auto at_bound = [&](std::size_t e) {
+    std::string out;
+    for (std::size_t i = 0; i < d; ++i) {
+      const double v = s.descriptor[e * d + i];
+      const char* side = v == s.descriptor_bounds.lower[i]   ? "min"
+                         : v == s.descriptor_bounds.upper[i] ? "max"
+                                                             : nullptr;
+      if (side) out += (out.empty() ? "" : ",") + s.descriptor_names[i] + "=" + side;
+    }
+    return out;
+  };
   for (std::size_t r = 0; r < front.size(); ++r) {
     const std::size_t e = front[r];
     std::vector<double> values;
@@ -87,11 +101,15 @@ int run_front(const FrontOptions& o) {
     table.rows.push_back(
         {static_cast<std::int64_t>(r + 1), s.cell[e], values, s.fitness[e],
          std::vector<double>(s.descriptor.begin() + e * d, s.descriptor.begin() + (e + 1) * d),
+         at_bound(e),
          std::vector<double>(s.genome.begin() + e * g, s.genome.begin() + (e + 1) * g)});
     if (x > 0)
       table.rows.back().emplace_back(
           std::vector<double>(s.extras.begin() + e * x, s.extras.begin() + (e + 1) * x));
   }
+  table.header["at_bound"] =
+      "descriptors whose stored value sits at a bound of the space (NAME=min|max): values "
+      "beyond the bounds are stored clamped, so the measured value may lie further out";
   write_table(std::cout, table, o.format);
   return 0;
 }

@@ -10,6 +10,7 @@
 
 #include "cli/commands.hpp"
 #include "cli/resource_checks.hpp"
+#include "cli/option_checks.hpp"
 #include "cli/run_driver.hpp"
 #include "cli/summary.hpp"
 #include "core/base/errors.hpp"
@@ -22,8 +23,8 @@ namespace fs = std::filesystem;
 struct IlluminateOptions {
   std::string run_file;
   std::string out_dir;
-  std::uint64_t evaluations = 0;
-  std::optional<std::uint64_t> seed;
+  std::optional<std::int64_t> evaluations;
+  std::optional<std::int64_t> seed;
   std::size_t threads = 0;
   bool quiet = false;
   bool force = false;
@@ -32,8 +33,14 @@ struct IlluminateOptions {
 
 int run_illuminate(const IlluminateOptions& o) {
   auto overrides = o.overrides;
-  if (o.evaluations > 0) overrides.push_back("search.evaluations=" + std::to_string(o.evaluations));
-  if (o.seed) overrides.push_back("search.seed=" + std::to_string(*o.seed));
+  if (o.evaluations) {
+    check_evaluations_option(*o.evaluations);
+    overrides.push_back("search.evaluations=" + std::to_string(*o.evaluations));
+  }
+  if (o.seed) {
+    check_seed_option(*o.seed);
+    overrides.push_back("search.seed=" + std::to_string(*o.seed));
+  }
   RunConfig config = load_run_file(o.run_file, overrides);
 
   const fs::path out_dir(o.out_dir);
@@ -67,11 +74,12 @@ int run_illuminate(const IlluminateOptions& o) {
   }
   if (!o.quiet && !run.space_note.empty()) std::cerr << "tessera: " << run.space_note << "\n";
 
+  const std::uint64_t start_evaluations = run.search->counters().evaluations;
   const auto start = std::chrono::steady_clock::now();
   const int code = drive_run(run, {archive.string(), o.quiet});
   const double seconds =
       std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-  if (code == 0) print_summary(std::cout, run, archive.string(), seconds);
+  if (code == 0) print_summary(std::cout, run, archive.string(), start_evaluations, seconds);
   return code;
 }
 
@@ -90,13 +98,10 @@ void register_illuminate(CLI::App& app) {
   cmd->add_option("--out,-o", o->out_dir, "output folder (created if missing)")->required();
   cmd->add_option("--evaluations,-n", o->evaluations,
                   "evaluation budget (overrides search.evaluations)");
-  // Seeds are stored as TOML integers, which stop at 2^63 - 1; larger values are refused rather
-  // than clamped.
-  cmd->add_option("--seed", o->seed, "random seed (overrides search.seed)")
-      ->check(CLI::Range(std::uint64_t{0}, std::uint64_t{INT64_MAX}));
-  cmd->add_option("--threads,-j", o->threads,
-                  "worker threads (default: all cores); results do "
-                  "not depend on it");
+  cmd->add_option("--seed", o->seed,
+                  "random seed, 0 to 9223372036854775807 (overrides search.seed)");
+  cmd->add_option("--threads,-j", o->threads, "worker threads (default: all cores); results do "
+                                              "not depend on it");
   cmd->add_flag("--quiet,-q", o->quiet, "no progress line");
   cmd->add_flag("--force", o->force, "overwrite an existing DIR/archive.h5");
   cmd->add_option("--set", o->overrides,

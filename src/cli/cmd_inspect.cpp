@@ -9,8 +9,10 @@
 
 #include "cli/commands.hpp"
 #include "cli/format.hpp"
+#include "core/base/errors.hpp"
 #include "io/archive_file.hpp"
 #include "io/archive_summary.hpp"
+#include "io/trial_log.hpp"
 
 namespace tessera::cli {
 namespace {
@@ -100,7 +102,38 @@ void print_text(std::ostream& out, const ArchiveSummary& s) {
                                : "no");
 }
 
+// A trial log of `tessera adapt --log` is no archive: say what it holds.
+void print_trial_log(std::ostream& out, const std::string& path, const TrialLogSummary& s) {
+  const auto row = [&](const std::string& key, const std::string& value) {
+    out << "  " << key << std::string(key.size() < 14 ? 14 - key.size() : 1, ' ') << value << "\n";
+  };
+  out << path << ": trial log of `tessera adapt --log` (format " << s.format_version
+      << "), not an archive\n";
+  row("written by", "tessera " + s.tool_version);
+  row("map", s.archive);
+  if (!s.run_file.empty()) row("run file", s.run_file);
+  row("trials from", s.source);
+  row("prior", s.prior);
+  row("trials", std::to_string(s.measured.size()) + " of at most " + std::to_string(s.max_trials));
+  for (std::size_t t = 0; t < s.measured.size(); ++t)
+    row("  " + std::to_string(t + 1),
+        "cell " + std::to_string(s.cell[t]) + ", measured " + exact(s.measured[t]));
+  row("stopped", s.stop_reason);
+  row("choice", s.chosen >= 0 ? "trial " + std::to_string(s.chosen + 1) + ", cell " +
+                                    std::to_string(s.cell[static_cast<std::size_t>(s.chosen)])
+                              : "- (no trial completed)");
+}
+
 int run_inspect(const InspectOptions& o) {
+  if (const auto log = read_trial_log_summary(o.archive)) {
+    if (o.format == "json")
+      throw InputError(o.archive +
+                       ": a trial log of `tessera adapt --log`, not an archive; "
+                       "`inspect --format json` describes archives only (read the log with h5py, "
+                       "or `tessera inspect` it as text)");
+    print_trial_log(std::cout, o.archive, *log);
+    return 0;
+  }
   const ArchiveSummary summary = summarize_archive(read_archive_file(o.archive), o.archive);
   if (o.format == "json") {
     std::cout << nlohmann::ordered_json(summary).dump(2) << "\n";

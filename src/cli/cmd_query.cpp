@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "cli/commands.hpp"
+#include "cli/format.hpp"
 #include "cli/selection_args.hpp"
 #include "core/base/errors.hpp"
 #include "core/select/query.hpp"
@@ -32,6 +33,32 @@ std::vector<std::string> genome_parts(std::size_t g) {
   std::vector<std::string> parts;
   for (std::size_t i = 0; i < g; ++i) parts.push_back(std::to_string(i));
   return parts;
+}
+
+// One line on stderr when targets lie outside the descriptor bounds: the answer is then only
+// the elites nearest the edge of the map, which may be far from what was asked for.
+void warn_outside_bounds(const std::vector<std::vector<double>>& targets, const ArchiveSnapshot& s,
+                         const std::string& origin) {
+  std::size_t outside = 0;
+  std::string first;
+  for (std::size_t t = 0; t < targets.size(); ++t)
+    for (std::size_t i = 0; i < targets[t].size(); ++i) {
+      const double v = targets[t][i];
+      const double lo = s.descriptor_bounds.lower[i], hi = s.descriptor_bounds.upper[i];
+      if (v >= lo && v <= hi) continue;
+      if (outside++ == 0)
+        first = (targets.size() > 1 ? "target " + std::to_string(t + 1) + ": " : std::string()) +
+                s.descriptor_names[i] + " = " + short_number(v) + " lies outside [" +
+                short_number(lo) + ", " + short_number(hi) + "]";
+      break;
+    }
+  if (outside == 0) return;
+  std::cerr << "tessera: warning: " << origin << ": "
+            << (targets.size() > 1
+                    ? std::to_string(outside) + " of " + std::to_string(targets.size()) +
+                          " targets lie outside the descriptor bounds (first: " + first + ")"
+                    : first + ", the descriptor bounds")
+            << "; the answer is the elites nearest the edge of the map\n";
 }
 
 int run_query(const QueryOptions& o) {
@@ -59,6 +86,8 @@ int run_query(const QueryOptions& o) {
   } else {
     targets = read_targets_csv(o.targets_file, s.descriptor_names);
   }
+
+  warn_outside_bounds(targets, s, o.target.empty() ? o.targets_file : "--target");
 
   const NearestElites index(s, filter);
   if (index.size() == 0)

@@ -6,9 +6,11 @@
 #include <filesystem>
 #include <iostream>
 #include <memory>
+#include <optional>
 
 #include "cli/commands.hpp"
 #include "cli/resource_checks.hpp"
+#include "cli/option_checks.hpp"
 #include "cli/run_driver.hpp"
 #include "cli/summary.hpp"
 #include "core/base/errors.hpp"
@@ -21,7 +23,7 @@ namespace fs = std::filesystem;
 
 struct ResumeOptions {
   std::string archive;
-  std::uint64_t evaluations = 0;
+  std::optional<std::int64_t> evaluations;
   std::size_t threads = 0;
   bool quiet = false;
 };
@@ -33,11 +35,13 @@ int run_resume(const ResumeOptions& o) {
                      ": holds no resume state (written by a command that does not "
                      "checkpoint)");
   std::vector<std::string> overrides;
-  if (o.evaluations > 0) {
-    if (o.evaluations < saved.evaluations)
-      throw InputError(o.archive + ": already holds " + std::to_string(saved.evaluations) +
-                       " evaluations; --evaluations must be at least that");
-    overrides.push_back("search.evaluations=" + std::to_string(o.evaluations));
+  if (o.evaluations) {
+    check_evaluations_option(*o.evaluations);
+    if (static_cast<std::uint64_t>(*o.evaluations) < saved.evaluations)
+      throw InputError("--evaluations " + std::to_string(*o.evaluations) + ": " + o.archive +
+                       " already holds " + std::to_string(saved.evaluations) +
+                       " evaluations; the new total budget must be at least that");
+    overrides.push_back("search.evaluations=" + std::to_string(*o.evaluations));
   }
   const std::string base = fs::absolute(fs::path(o.archive)).parent_path().string();
   check_output_writable(base, "");  // the folder must take the next checkpoint
@@ -63,11 +67,12 @@ int run_resume(const ResumeOptions& o) {
   } catch (const std::invalid_argument& e) {
     throw InputError(o.archive + ": cannot resume: " + e.what());
   }
+  const std::uint64_t start_evaluations = run.search->counters().evaluations;
   const auto start = std::chrono::steady_clock::now();
   const int code = drive_run(run, {o.archive, o.quiet});
   const double seconds =
       std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-  if (code == 0) print_summary(std::cout, run, o.archive, seconds);
+  if (code == 0) print_summary(std::cout, run, o.archive, start_evaluations, seconds);
   return code;
 }
 

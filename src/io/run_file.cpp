@@ -12,6 +12,7 @@
 #include <sstream>
 
 #include "core/base/errors.hpp"
+#include "io/closest_name.hpp"
 #include "io/emitter_keys.hpp"
 
 namespace tessera {
@@ -125,13 +126,18 @@ bool has_type(const toml::node& node, KeyType type) {
   return false;
 }
 
-// Collects "FILE:LINE: key 'K': fault" messages; the first one is thrown.
+// Collects "FILE:LINE: key 'K': fault" messages; the first one is thrown. A key given on the
+// command line (--set KEY=VALUE) is blamed there, not on the file.
 class Checker {
  public:
-  explicit Checker(std::string source) : source_(std::move(source)) {}
+  explicit Checker(std::string source, std::map<std::string, std::string> overrides = {})
+      : source_(std::move(source)), overrides_(std::move(overrides)) {}
 
   [[noreturn]] void fail(const toml::node* node, const std::string& key,
                          const std::string& fault) const {
+    if (const auto it = overrides_.find(key); it != overrides_.end())
+      throw InputError("--set " + it->second + ": " + fault + " (command-line value for " +
+                       source_ + ")");
     std::string where = source_;
     if (node && node->source().begin.line > 0)
       where += ":" + std::to_string(node->source().begin.line);
@@ -143,7 +149,31 @@ class Checker {
 
  private:
   std::string source_;
+  std::map<std::string, std::string> overrides_;  // key -> the --set assignment
 };
+
+// "unknown key", with the nearest known key of the same table when one is close.
+std::string unknown_key_fault(const std::string& section, const std::string& key) {
+  std::vector<std::string> siblings;
+  const std::string prefix = section + ".";
+  for (const auto& [full, spec] : schema())
+    if (full.compare(0, prefix.size(), prefix) == 0) siblings.push_back(full.substr(prefix.size()));
+  if (siblings.empty()) {
+    std::vector<std::string> sections;
+    for (const auto& [full, spec] : schema()) {
+      const std::string name = full.substr(0, full.find('.'));
+      if (sections.empty() || sections.back() != name) sections.push_back(name);
+    }
+    if (const auto near = closest_name(section, sections))
+      return "unknown table [" + section + "] (did you mean [" + *near + "]?)";
+    return "unknown table [" + section + "]";
+  }
+  if (const auto near = closest_name(key, siblings))
+    return "unknown key (did you mean '" + *near + "'?)";
+  std::string list;
+  for (const auto& name : siblings) list += (list.empty() ? "" : ", ") + name;
+  return "unknown key (the keys of [" + section + "] are " + list + ")";
+}
 
 // Walks every key of the file, refusing those the schema does not know.
 void check_known_keys(const toml::table& root, const Checker& checker) {
@@ -156,7 +186,8 @@ void check_known_keys(const toml::table& root, const Checker& checker) {
     for (const auto& [key, node] : *section_table) {
       const std::string full = section + "." + std::string(key.str());
       const auto it = schema().find(full);
-      if (it == schema().end()) checker.fail(&node, full, "unknown key");
+      if (it == schema().end())
+        checker.fail(&node, full, unknown_key_fault(section, std::string(key.str())));
       if (!has_type(node, it->second.type))
         checker.fail(&node, full, std::string("must be ") + type_name(it->second.type));
     }
@@ -334,7 +365,10 @@ std::vector<std::string> known_algorithms() {
 
 RunConfig parse_run_text(const std::string& text, const std::string& source,
                          const std::string& base_dir, const std::vector<std::string>& overrides) {
-  const Checker checker(source);
+  std::map<std::string, std::string> overridden;
+  for (const auto& assignment : overrides)
+    overridden[assignment.substr(0, assignment.find('='))] = assignment;
+  const Checker checker(source, overridden);
   toml::table root;
   try {
     root = toml::parse(text, source);

@@ -52,7 +52,7 @@ void dataset(H5::Group& group, const char* name, const H5::PredType& file_type,
 void write_contents(H5::H5File& file, const TrialLog& log) {
   string_attr(file, "format", "tessera-trial-log");
   scalar_attr<std::int64_t>(file, "format_version", H5::PredType::STD_I64LE,
-                            H5::PredType::NATIVE_INT64, 1);
+                            H5::PredType::NATIVE_INT64, 2);
   string_attr(file, "tool_version", TESSERA_VERSION);
   string_attr(file, "archive", log.archive);
   string_attr(file, "run_file", log.run_file);
@@ -64,7 +64,11 @@ void write_contents(H5::H5File& file, const TrialLog& log) {
     scalar_attr(g, name, H5::PredType::IEEE_F64LE, H5::PredType::NATIVE_DOUBLE, v);
   };
   f64("kappa", log.kappa);
-  f64("stop_fraction", log.stop_fraction);
+  f64("stop_gap", log.stop_gap);
+  f64("good_enough", log.good_enough);
+  f64("expected_best", log.expected_best);
+  f64("expected_span", log.expected_span);
+  f64("brute_force_best", log.brute_force_best);
   f64("length_scale", log.length_scale);
   f64("signal_variance", log.signal_variance);
   f64("noise", log.noise);
@@ -167,6 +171,71 @@ void write_trial_log(const std::string& path, const TrialLog& log) {
     std::error_code ignored;
     fs::remove(temp, ignored);
     throw InputError(path + ": cannot write the trial log: " + e.what());
+  }
+}
+
+namespace {
+
+std::string read_string_attr(const H5::H5Object& obj, const char* name) {
+  H5::Attribute a = obj.openAttribute(name);
+  H5::StrType type = a.getStrType();
+  std::string value;
+  a.read(type, value);
+  return value;
+}
+
+template <class T>
+T read_scalar_attr(const H5::H5Object& obj, const char* name, const H5::PredType& memory_type) {
+  T value{};
+  obj.openAttribute(name).read(memory_type, &value);
+  return value;
+}
+
+template <class T>
+std::vector<T> read_column(const H5::Group& g, const char* name, const H5::PredType& memory_type) {
+  H5::DataSet ds = g.openDataSet(name);
+  hsize_t dims[2] = {0, 0};
+  ds.getSpace().getSimpleExtentDims(dims);
+  std::vector<T> out(dims[0]);
+  if (!out.empty()) ds.read(out.data(), memory_type);
+  return out;
+}
+
+}  // namespace
+
+std::optional<TrialLogSummary> read_trial_log_summary(const std::string& path) {
+  H5::Exception::dontPrint();
+  std::optional<H5::H5File> file;
+  try {
+    if (!H5::H5File::isHdf5(path)) return std::nullopt;
+    file.emplace(path, H5F_ACC_RDONLY);
+    if (!file->attrExists("format") || read_string_attr(*file, "format") != "tessera-trial-log")
+      return std::nullopt;
+  } catch (const H5::Exception&) {
+    return std::nullopt;  // not ours to explain: the archive reader says what is wrong
+  }
+  try {
+    TrialLogSummary s;
+    s.format_version =
+        read_scalar_attr<std::int64_t>(*file, "format_version", H5::PredType::NATIVE_INT64);
+    s.tool_version = read_string_attr(*file, "tool_version");
+    s.archive = read_string_attr(*file, "archive");
+    s.run_file = read_string_attr(*file, "run_file");
+    s.source = read_string_attr(*file, "source");
+    s.prior = read_string_attr(*file, "prior");
+    const H5::Group g = file->openGroup("/trials");
+    s.stop_reason = read_string_attr(g, "stop_reason");
+    s.max_trials = read_scalar_attr<std::uint64_t>(g, "max_trials", H5::PredType::NATIVE_UINT64);
+    s.chosen = read_scalar_attr<std::int64_t>(g, "chosen", H5::PredType::NATIVE_INT64);
+    s.cell = read_column<std::int64_t>(g, "cell", H5::PredType::NATIVE_INT64);
+    s.measured = read_column<double>(g, "measured", H5::PredType::NATIVE_DOUBLE);
+    if (s.cell.size() != s.measured.size() ||
+        (s.chosen >= 0 && static_cast<std::size_t>(s.chosen) >= s.measured.size()))
+      throw InputError(path + ": trial log with inconsistent trial rows");
+    return s;
+  } catch (const H5::Exception& e) {
+    throw InputError(
+        path + ": a trial log of `tessera adapt --log` that cannot be read: " + e.getDetailMsg());
   }
 }
 

@@ -178,12 +178,27 @@ std::string heatmap_svg(const Heatmap& m, const std::string& title) {
   PlotFrame bar{505, 40, 18, 400};
   bar.y0 = m.value_min, bar.y1 = m.value_max;
   pad_range(bar.y0, bar.y1);
-  for (double t : nice_ticks(bar.y0, bar.y1, 6)) {
-    const double y = m.value_max > m.value_min ? bar.py(t) : 40.0;
-    body += "<line x1=\"523\" y1=\"" + num(y) + "\" x2=\"528\" y2=\"" + num(y) +
-            "\" stroke=\"#555\"/><text x=\"531\" y=\"" + num(y + 4) + "\">" + tick_label(t) +
-            "</text>";
-    if (!(m.value_max > m.value_min)) break;
+  // The ends carry the lowest and highest fitness on the map; ticks too close to them are left
+  // out, so that labels never overlap.
+  const auto end_label = [&](double value, double y) {
+    char text[32];
+    std::snprintf(text, sizeof text, "%.4g", value);
+    body += "<line x1=\"523\" y1=\"" + num(y) + "\" x2=\"530\" y2=\"" + num(y) +
+            "\" stroke=\"#222\"/><text x=\"533\" y=\"" + num(y + 4) + "\" font-weight=\"bold\">" +
+            xml_escape(text) + "</text>";
+  };
+  if (m.value_max > m.value_min) {
+    for (double t : nice_ticks(bar.y0, bar.y1, 6)) {
+      const double y = bar.py(t);
+      if (y < 40.0 + 14.0 || y > 440.0 - 14.0) continue;
+      body += "<line x1=\"523\" y1=\"" + num(y) + "\" x2=\"528\" y2=\"" + num(y) +
+              "\" stroke=\"#555\"/><text x=\"531\" y=\"" + num(y + 4) + "\">" + tick_label(t) +
+              "</text>";
+    }
+    end_label(m.value_max, 40.0);
+    end_label(m.value_min, 440.0);
+  } else if (std::isfinite(m.value_max)) {
+    end_label(m.value_max, 40.0);  // one value: the whole bar stands for it
   }
   body +=
       "</g>\n<text transform=\"translate(590,240) rotate(-90)\" text-anchor=\"middle\" "

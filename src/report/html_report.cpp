@@ -143,9 +143,10 @@ std::vector<ReportFile> build_report(const ArchiveSnapshot& s, const ReportSetti
     qd.push_back(h.qd_score);
     best.push_back(h.max_fitness);
   }
-  const std::string coverage_svg =
-      line_chart_svg("Coverage", "evaluations", "coverage (fraction of cells)", evals, coverage);
-  const std::string qd_svg = line_chart_svg("QD-score", "evaluations", "QD-score", evals, qd);
+  const std::string coverage_svg = line_chart_svg(
+      "Coverage", "evaluations", "coverage (fraction of cells)", evals, coverage, true);
+  // The QD-score is a sum of fitness above the lowest possible: never below 0.
+  const std::string qd_svg = line_chart_svg("QD-score", "evaluations", "QD-score", evals, qd, true);
   const std::string max_svg =
       line_chart_svg("Max fitness", "evaluations", "max fitness", evals, best);
   files.push_back({"coverage.svg", svg_file(coverage_svg)});

@@ -139,7 +139,7 @@ std::string svg_file(const std::string& svg_element_text) {
 
 std::string line_chart_svg(const std::string& title, const std::string& x_label,
                            const std::string& y_label, const std::vector<double>& xs,
-                           const std::vector<double>& ys) {
+                           const std::vector<double>& ys, bool y_from_zero) {
   PlotFrame f{76, 40, 280, 200};
   if (xs.empty()) {
     f.x0 = 0, f.x1 = 1, f.y0 = 0, f.y1 = 1;
@@ -149,10 +149,15 @@ std::string line_chart_svg(const std::string& title, const std::string& x_label,
     f.y0 = *std::min_element(ys.begin(), ys.end());
     f.y1 = *std::max_element(ys.begin(), ys.end());
     f.x0 = std::min(f.x0, 0.0);  // evaluations start at zero
+    if (y_from_zero) f.y0 = std::min(f.y0, 0.0), f.y1 = std::max(f.y1, 0.0);
   }
   pad_range(f.x0, f.x1);
   pad_range(f.y0, f.y1);
   std::string body = f.axes(x_label, y_label);
+  if (f.y0 > 0.0 || f.y1 < 0.0)
+    body += "<text x=\"" + num(f.left + f.width) + "\" y=\"" + num(f.top - 6) +
+            "\" text-anchor=\"end\" font-size=\"11\" fill=\"#555\">y axis does not start at 0" +
+            "</text>\n";
   if (xs.empty()) {
     body += "<text x=\"" + num(f.left + f.width / 2) + "\" y=\"" + num(f.top + f.height / 2) +
             "\" text-anchor=\"middle\" fill=\"#777\">no history recorded</text>\n";

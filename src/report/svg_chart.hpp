@@ -42,10 +42,12 @@ std::string svg_element(double width, double height, const std::string& title,
 // The same with an XML declaration: the content of a standalone .svg file.
 std::string svg_file(const std::string& svg_element_text);
 
-// y against x as a polyline with axes; `title` heads the chart.
+// y against x as a polyline with axes; `title` heads the chart. `y_from_zero`: the y axis starts
+// at 0 (a share or a count, whose size reads off the height); otherwise it spans the data, and
+// when that range leaves 0 out the chart says so.
 std::string line_chart_svg(const std::string& title, const std::string& x_label,
                            const std::string& y_label, const std::vector<double>& xs,
-                           const std::vector<double>& ys);
+                           const std::vector<double>& ys, bool y_from_zero = false);
 
 // Two objectives: every candidate as a grey dot, the front as dark points (joined in the given
 // order when `join`, which suits a two-objective front sorted by its first objective).

@@ -18,6 +18,7 @@
 #include "io/table_output.hpp"
 #include "io/targets_csv.hpp"
 #include "report/colormap.hpp"
+#include "report/heatmap.hpp"
 #include "report/png_image.hpp"
 #include "report/svg_chart.hpp"
 
@@ -171,4 +172,36 @@ TEST_CASE("ticks are round numbers inside the range") {
   CHECK(t.back() <= -0.03);
   CHECK(tessera::tick_label(20000.0) == "20000");
   CHECK(tessera::xml_escape("a<b & \"c\"") == "a&lt;b &amp; &quot;c&quot;");
+}
+
+TEST_CASE("colour bar: labelled with the lowest and highest fitness at its ends") {
+  tessera::Heatmap m;
+  m.x_name = "x", m.y_name = "y";
+  m.nx = 2, m.ny = 1;
+  m.lattice = {-9.6513, -0.000483};
+  m.value_min = -9.6513, m.value_max = -0.000483;
+  m.shown = 2;
+  const std::string svg = tessera::heatmap_svg(m, "map");
+  // The bar spans y = 40 (top, highest) to 440 (bottom, lowest); labels sit 4 px below each end.
+  CHECK(svg.find("y=\"44.0\" font-weight=\"bold\">-0.000483</text>") != std::string::npos);
+  CHECK(svg.find("y=\"444.0\" font-weight=\"bold\">-9.651</text>") != std::string::npos);
+}
+
+TEST_CASE("line charts: shares and counts from 0, other axes say they do not start at 0") {
+  const std::vector<double> xs = {0, 1000, 2000};
+  const std::vector<double> share = {0.5, 0.6, 0.7};
+  // From 0: the y of 0 is the bottom of the frame (top 40 + height 200), ticked and labelled.
+  const std::string coverage =
+      tessera::line_chart_svg("Coverage", "evaluations", "coverage", xs, share, true);
+  CHECK(coverage.find("y=\"244.0\" text-anchor=\"end\">0</text>") != std::string::npos);
+  CHECK(coverage.find("does not start at 0") == std::string::npos);
+  // Fitness far from 0: the axis spans the data and says so.
+  const std::vector<double> fitness = {-3.0, -2.5, -2.0};
+  const std::string best =
+      tessera::line_chart_svg("Max fitness", "evaluations", "max fitness", xs, fitness);
+  CHECK(best.find("y axis does not start at 0") != std::string::npos);
+  // A range that holds 0 needs no note.
+  const std::string across =
+      tessera::line_chart_svg("Max fitness", "evaluations", "max fitness", xs, {-1.0, 0.5, 1.0});
+  CHECK(across.find("does not start at 0") == std::string::npos);
 }

@@ -1,5 +1,6 @@
 #include "core/models/adaptation.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 #include <sstream>
@@ -20,14 +21,12 @@ std::string number(double v) {
 void check_adapt_settings(const AdaptSettings& s) {
   if (!std::isfinite(s.kappa) || !(s.kappa >= 0.0))
     throw std::invalid_argument("kappa must be a number >= 0");
-  if (!std::isfinite(s.stop_fraction) || !(s.stop_fraction > 0.0) || s.stop_fraction > 1.0)
-    throw std::invalid_argument("stop fraction must be in (0, 1]");
+  if (!std::isfinite(s.stop_gap) || !(s.stop_gap >= 0.0) || s.stop_gap > 1.0)
+    throw std::invalid_argument("the stop gap must be in [0, 1]");
+  if (s.good_enough && !std::isfinite(*s.good_enough))
+    throw std::invalid_argument("the good-enough level must be a finite number");
   if (s.max_trials < 1) throw std::invalid_argument("the trial budget must be at least 1");
   check_gp_settings(s.gp);
-}
-
-double stop_threshold(double max_mean, double stop_fraction) {
-  return max_mean - (1.0 - stop_fraction) * std::fabs(max_mean);
 }
 
 std::vector<double> normalise_descriptors(std::span<const double> descriptors,
@@ -58,6 +57,9 @@ TrialAndError::TrialAndError(std::span<const double> points, std::size_t dims,
     throw std::invalid_argument("elite descriptors and prior means disagree in count");
   for (double p : prior_)
     if (!std::isfinite(p)) throw std::invalid_argument("a prior mean is not finite");
+  const auto [lowest, highest] = std::minmax_element(prior_.begin(), prior_.end());
+  expected_best_ = *highest;
+  expected_span_ = *highest - *lowest;
   gp_.set_queries(points_, prior_);
 }
 
@@ -81,7 +83,8 @@ std::optional<std::size_t> TrialAndError::best_trial() const {
 bool TrialAndError::criterion_met() const {
   const auto best = best_trial();
   if (!best) return false;
-  return trials_[*best].measured >= stop_threshold(max_posterior_mean(), settings_.stop_fraction);
+  const double measured = trials_[*best].measured;
+  return measured >= stop_level() || (settings_.good_enough && measured >= *settings_.good_enough);
 }
 
 std::optional<std::size_t> TrialAndError::next() const {
@@ -119,11 +122,17 @@ void TrialAndError::record(std::size_t elite, double measured, bool valid) {
 
 std::string TrialAndError::stop_reason() const {
   if (!aborted_.empty()) return aborted_;
+  const std::string after =
+      " after " + std::to_string(trials_.size()) + " trial" + (trials_.size() == 1 ? "" : "s");
   if (criterion_met()) {
     const double best = trials_[*best_trial()].measured;
-    return "best measured " + number(best) + " reached " + number(settings_.stop_fraction) +
-           " of the best prediction " + number(max_posterior_mean()) + " after " +
-           std::to_string(trials_.size()) + " trial" + (trials_.size() == 1 ? "" : "s");
+    if (best >= stop_level())
+      return "best measured " + number(best) + " is within " +
+             number(settings_.stop_gap * expected_span_) + " (stop gap " +
+             number(settings_.stop_gap) + " of the map's span " + number(expected_span_) +
+             ") of the map's best expectation " + number(expected_best_) + after;
+    return "best measured " + number(best) + " reached the good-enough level " +
+           number(*settings_.good_enough) + after;
   }
   if (trials_.size() >= settings_.max_trials)
     return "trial budget of " + std::to_string(settings_.max_trials) + " spent";

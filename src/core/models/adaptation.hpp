@@ -1,9 +1,17 @@
 // Recovery after damage by trial and error over a behaviour map, after Cully, Clune, Tarapore &
 // Mouret, "Robots that can adapt like animals", Nature 2015: a Gaussian process over the
 // descriptor space whose prior mean is what the map predicts for each elite; the next trial is
-// the untried elite with the highest upper confidence bound mean + kappa * sigma; the loop stops
-// once the best measured performance reaches stop_fraction of the highest posterior mean (or
-// the trial budget is spent). Trials come from a callback, so this file does no I/O.
+// the untried elite with the highest upper confidence bound mean + kappa * sigma.
+//
+// Stopping differs from the published rule (stop once the best trial reaches alpha times the
+// highest posterior mean). That rule compares a trial with predictions the trial itself has just
+// pulled down: one poor trial lowers the posterior of every elite around it, so it can "reach"
+// alpha of a prediction it has lowered, and alpha * m lies on the wrong side of m when m < 0.
+// Here the best trial is compared with what the map itself expected of its best elite, in
+// fitness units: stop once best measured >= max prior - stop_gap * (max prior - min prior), so
+// the same rule holds for a distance walked and for minus a distance to a target; or once it
+// reaches the user's absolute good-enough level; or when the trial budget is spent. Trials come
+// from a callback, so this file does no I/O.
 #pragma once
 
 #include <cstddef>
@@ -18,23 +26,19 @@
 
 namespace tessera {
 
-// Defaults of the published work, from memory: kappa = 0.05, alpha = 0.9, Matérn 5/2 kernel
-// with length scale 0.4 on descriptors normalised to [0, 1], noise 0.001, unit signal variance.
-// The trial budget (20) is ours.
+// Defaults of the published work, from memory: kappa = 0.05, Matérn 5/2 kernel with length
+// scale 0.4 on descriptors normalised to [0, 1], noise 0.001, unit signal variance. The trial
+// budget (20) and the stop gap (1% of the map's span of expectations) are ours.
 struct AdaptSettings {
   double kappa = 0.05;
-  double stop_fraction = 0.9;
+  double stop_gap = 0.01;             // share of (max prior - min prior), in [0, 1]
+  std::optional<double> good_enough;  // absolute level that ends the trials, fitness units
   std::size_t max_trials = 20;
   GpSettings gp;
 };
 
 // Throws std::invalid_argument naming the faulty setting.
 void check_adapt_settings(const AdaptSettings& settings);
-
-// Cully et al.'s stop threshold alpha * max_mean, mirrored for negative predictions
-// (max_mean - (1 - alpha) |max_mean|) so that it still asks for "within (1 - alpha) of the best
-// prediction" when performance is a negative cost such as minus a distance.
-double stop_threshold(double max_mean, double stop_fraction);
 
 struct AdaptTrial {
   std::size_t elite = 0;   // index into the map's elites
@@ -61,9 +65,13 @@ class TrialAndError {
   void abort(std::string reason) { aborted_ = std::move(reason); }
 
   bool finished() const { return !next().has_value(); }
-  bool criterion_met() const;       // best measured >= stop_threshold
+  bool criterion_met() const;       // best measured >= stop_level() or >= good_enough
   std::string stop_reason() const;  // one line; "" while running
   double max_posterior_mean() const;
+  double expected_best() const { return expected_best_; }  // the highest prior
+  double expected_span() const { return expected_span_; }  // highest minus lowest prior
+  // The level at which the map's expectation counts as met: expected_best - stop_gap * span.
+  double stop_level() const { return expected_best_ - settings_.stop_gap * expected_span_; }
   const std::vector<AdaptTrial>& trials() const { return trials_; }
   std::optional<std::size_t> best_trial() const;  // highest measured, first on ties
   const GaussianProcess& gp() const { return gp_; }
@@ -76,6 +84,8 @@ class TrialAndError {
   std::vector<double> points_;
   std::size_t dims_;
   std::vector<double> prior_;
+  double expected_best_ = 0.0;
+  double expected_span_ = 0.0;
   AdaptSettings settings_;
   GaussianProcess gp_;
   std::vector<unsigned char> tried_;
