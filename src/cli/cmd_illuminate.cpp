@@ -9,8 +9,8 @@
 #include <optional>
 
 #include "cli/commands.hpp"
-#include "cli/resource_checks.hpp"
 #include "cli/option_checks.hpp"
+#include "cli/resource_checks.hpp"
 #include "cli/run_driver.hpp"
 #include "cli/summary.hpp"
 #include "core/base/errors.hpp"
@@ -24,7 +24,7 @@ struct IlluminateOptions {
   std::string run_file;
   std::string out_dir;
   std::optional<std::int64_t> evaluations;
-  std::optional<std::int64_t> seed;
+  std::optional<std::string> seed;
   std::size_t threads = 0;
   bool quiet = false;
   bool force = false;
@@ -38,8 +38,7 @@ int run_illuminate(const IlluminateOptions& o) {
     overrides.push_back("search.evaluations=" + std::to_string(*o.evaluations));
   }
   if (o.seed) {
-    check_seed_option(*o.seed);
-    overrides.push_back("search.seed=" + std::to_string(*o.seed));
+    overrides.push_back("search.seed=" + std::to_string(parse_seed_option(*o.seed)));
   }
   RunConfig config = load_run_file(o.run_file, overrides);
 
@@ -100,8 +99,9 @@ void register_illuminate(CLI::App& app) {
                   "evaluation budget (overrides search.evaluations)");
   cmd->add_option("--seed", o->seed,
                   "random seed, 0 to 9223372036854775807 (overrides search.seed)");
-  cmd->add_option("--threads,-j", o->threads, "worker threads (default: all cores); results do "
-                                              "not depend on it");
+  cmd->add_option("--threads,-j", o->threads,
+                  "worker threads (default: all cores); results do "
+                  "not depend on it");
   cmd->add_flag("--quiet,-q", o->quiet, "no progress line");
   cmd->add_flag("--force", o->force, "overwrite an existing DIR/archive.h5");
   cmd->add_option("--set", o->overrides,

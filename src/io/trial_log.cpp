@@ -6,8 +6,8 @@
 
 #include <algorithm>
 #include <cerrno>
-#include <cstdio>
 #include <csignal>
+#include <cstdio>
 #include <cstdlib>
 #include <cstring>
 #include <filesystem>
@@ -205,6 +205,10 @@ std::vector<T> read_column(const H5::Group& g, const char* name, const H5::PredT
 
 std::optional<TrialLogSummary> read_trial_log_summary(const std::string& path) {
   H5::Exception::dontPrint();
+  // Anything but a regular file (a named pipe would block the open) is the archive reader's to
+  // explain.
+  std::error_code ec;
+  if (!std::filesystem::is_regular_file(path, ec)) return std::nullopt;
   std::optional<H5::H5File> file;
   try {
     if (!H5::H5File::isHdf5(path)) return std::nullopt;

@@ -79,8 +79,9 @@ with tempfile.TemporaryDirectory() as tmp:
     for objectives, within in cases:
         compare(path, objectives, within)
 
-    # Ties: the same archive with descriptors and fitness rounded to a few levels (still valid:
-    # every value stays within the bounds), written with h5py.
+    # Ties: the same archive with fitness rounded to whole units, and three rows of one grid
+    # column made equal in (fitness, x) at the top of the front (their y kept, so every elite
+    # still lies in its own cell); written with h5py.
     tied = os.path.join(tmp, "tied.h5")
     with h5py.File(path, "r") as src, h5py.File(tied, "w") as dst:
         for key, value in src.attrs.items():
@@ -89,12 +90,20 @@ with tempfile.TemporaryDirectory() as tmp:
         src.copy(src["genome"], dst, "genome")
         src.copy(src["history"], dst, "history")
         src.copy(src["elites"], dst, "elites")
-        d = np.round(src["elites/descriptor"][()] * 4) / 4
+        d = src["elites/descriptor"][()].copy()
         f = np.round(src["elites/fitness"][()])
-        # Exact copies of the best point for (fitness max, x max) on two more rows.
-        best = np.lexsort((d[:, 0], f))[-1]
-        others = [i for i in range(len(f)) if i != best][:2]
-        d[others] = d[best]
+        lo, hi = src["space/lower"][()], src["space/upper"][()]
+        res = src["space/resolution"][()]
+        column = np.clip(np.floor((d[:, 0] - lo[0]) / (hi[0] - lo[0]) * res[0]), 0, res[0] - 1)
+        # The rows of a grid column holding several elites get one x (the column's largest) and
+        # one fitness above every other: equal points at the top of the front.
+        counts = np.bincount(column.astype(np.int64))
+        shared = np.flatnonzero(column == np.argmax(counts))
+        check(len(shared) > 1, "tied archive: a grid column holds several elites")
+        best = shared[np.argmax(d[shared, 0])]
+        others = [i for i in shared if i != best][:2]
+        f[best] = f.max() + 0.5
+        d[others, 0] = d[best, 0]
         f[others] = f[best]
         dst["elites/descriptor"][...] = d
         dst["elites/fitness"][...] = f

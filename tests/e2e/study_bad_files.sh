@@ -68,7 +68,7 @@ replicates = []
 label = "a"
 run = "ARM"
 T
-expect_refusal bad-override "key 'search.batchsize': unknown key" <<'T'
+expect_refusal bad-override "search.batchsize=3: unknown key" <<'T'
 [study]
 replicates = 1
 [[treatment]]
