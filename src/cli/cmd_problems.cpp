@@ -65,6 +65,14 @@ std::string genome_text(const Bounds& genome) {
   return text + ", bounds per parameter (see --format json)";
 }
 
+// What `report` and `trace` can show of the problem's elites beyond the map and curves.
+std::string figures_text(const ProblemInfo& p) {
+  if (p.draws_scene && p.gives_traces) return "draws its scene and traces elites";
+  if (p.draws_scene) return "draws its scene, no traces";
+  if (p.gives_traces) return "traces elites, no scene";
+  return "none (report shows the map and curves only)";
+}
+
 void print_text(const Listing& listing, std::ostream& out) {
   for (const auto& p : listing.problems) {
     out << p.name << "\n";
@@ -82,6 +90,7 @@ void print_text(const Listing& listing, std::ostream& out) {
         out << (i ? ", " : "") << p.extra_names[i];
       out << "\n";
     }
+    out << "  figures     " << figures_text(p) << "\n";
     out << "  plugin      " << p.origin << " (ABI " << p.abi_version << ")\n\n";
   }
   if (listing.problems.empty()) out << "No problems found.\n\n";
@@ -114,6 +123,8 @@ void print_json(const Listing& listing, std::ostream& out) {
                         {"fitness_lower", finite_or_null(p.fitness_lower)},
                         {"fitness_upper", finite_or_null(p.fitness_upper)},
                         {"extra_names", p.extra_names},
+                        {"draws_scene", p.draws_scene},
+                        {"gives_traces", p.gives_traces},
                         {"plugin", p.origin},
                         {"abi_version", p.abi_version}});
   }

@@ -10,6 +10,7 @@
 #include "cli/commands.hpp"
 #include "cli/selection_args.hpp"
 #include "core/base/errors.hpp"
+#include "core/select/spread.hpp"
 #include "io/archive_file.hpp"
 #include "report/html_report.hpp"
 #include "report/scene_panels.hpp"
@@ -28,8 +29,8 @@ struct ReportOptions {
   std::string cells;
 };
 
-// Rows of the elites whose traces are drawn: those in --cells, in the order given, else the
-// `count` fittest (ties: first stored first).
+// Rows of the elites whose traces are drawn: those in --cells, in the order given, else `count`
+// spread over the map (the fittest, then farthest-point choices: core/select/spread.hpp).
 std::vector<std::size_t> chosen_elites(const ReportOptions& o, const ArchiveSnapshot& s) {
   std::vector<std::size_t> rows;
   if (!o.cells.empty()) {
@@ -43,12 +44,7 @@ std::vector<std::size_t> chosen_elites(const ReportOptions& o, const ArchiveSnap
     }
     return rows;
   }
-  rows.resize(s.elite_count());
-  for (std::size_t i = 0; i < rows.size(); ++i) rows[i] = i;
-  std::stable_sort(rows.begin(), rows.end(),
-                   [&](std::size_t a, std::size_t b) { return s.fitness[a] > s.fitness[b]; });
-  rows.resize(std::min(o.traces, rows.size()));
-  return rows;
+  return spread_elites(s, o.traces);
 }
 
 // The scene panels when the archive's problem draws itself; none (with one line on stderr
@@ -139,7 +135,8 @@ void register_report(CLI::App& app) {
   cmd->add_option("--within", o->within,
                   "constrain the front's elites: LO <= NAME <= HI; NAME=LO:HI, repeatable");
   cmd->add_option("--traces", o->traces,
-                  "draw the problem's scene with the traces of the N fittest elites (default 5; "
+                  "draw the problem's scene with the traces of N elites spread over the map: the "
+                  "fittest, then each time the one farthest from those drawn (default 5; "
                   "0: the scene alone)")
       ->check(CLI::Range(std::size_t{0}, std::size_t{24}));
   cmd->add_option("--cells", o->cells, "C1,C2,...: draw the traces of the elites in these cells")

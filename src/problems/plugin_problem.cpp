@@ -192,6 +192,8 @@ ProblemInfo read_metadata(const PluginLibrary& library, const tsr_instance* inst
     info.extra_names = copy_names(m.extra_names, m.extra_size, "extra");
     info.origin = path;
     info.abi_version = library.header().abi_version;
+    info.draws_scene = library.scene != nullptr;
+    info.gives_traces = library.trace != nullptr;
     check_problem_info(info);
     return info;
   } catch (const std::invalid_argument& e) {

@@ -24,8 +24,12 @@ struct ProblemInfo {
   double fitness_lower = 0.0;  // the QD-score offset
   double fitness_upper = 0.0;
   std::vector<std::string> extra_names;
-  std::string origin;          // plugin path, "process: CMD", "built-in", ...
+  std::string origin;  // plugin path, "process: CMD", "built-in", ...
   std::uint32_t abi_version = 0;
+  // What the problem can draw (plugins: tsr_scene / tsr_trace exported). Processes answer or
+  // not only when asked, so for them both stay false until a report asks.
+  bool draws_scene = false;
+  bool gives_traces = false;
 
   std::size_t genome_size() const { return genome.size(); }
   std::size_t descriptor_size() const { return descriptor.size(); }

@@ -6,7 +6,6 @@ import csv
 import io
 import json
 import os
-import subprocess
 import sys
 import tempfile
 
@@ -16,22 +15,9 @@ import numpy as np
 sys.path.insert(0, os.path.join(os.environ["TESSERA_SOURCE_DIR"], "tests", "reference"))
 import selection_reference as ref  # noqa: E402
 
-TESSERA = os.environ["TESSERA"]
-SOURCE = os.environ["TESSERA_SOURCE_DIR"]
-failures = []
+from tessera_test_util import SOURCE, Checks, run_expecting as run  # noqa: E402
 
-
-def run(*args, expect=0):
-    p = subprocess.run([TESSERA, *args], capture_output=True, text=True)
-    if p.returncode != expect:
-        raise SystemExit("tessera %s: exit %d (expected %d)\n%s" % (" ".join(args), p.returncode,
-                                                                   expect, p.stderr))
-    return p
-
-
-def check(condition, message):
-    if not condition:
-        failures.append(message)
+check = Checks()
 
 
 def compare(path, objectives, within=()):
@@ -128,8 +114,4 @@ with tempfile.TemporaryDirectory() as tmp:
         check(len(p.stderr.strip().splitlines()) == 1 and needle in p.stderr,
               "front %s: stderr %r" % (args, p.stderr))
 
-if failures:
-    print("\n".join(failures[:40]))
-    print("%d failures" % len(failures))
-    sys.exit(1)
-print("front: all checks passed")
+check.finish("front")

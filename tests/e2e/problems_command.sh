@@ -34,6 +34,13 @@ for name, (g, lo, hi, names, dbound, flo, fhi) in expect.items():
     assert abs(p["fitness_lower"] - flo) < 1e-12 and p["fitness_upper"] == fhi, name
     assert p["abi_version"] == 2 and p["plugin"].endswith("/tessera-plugin-%s.so" % name), p
     assert p["plugin"] in text and name + "\n" in text, name
+# What each plugin exports (nm would show the same): arm, arena and linkage draw a scene and trace
+# elites; the projection benchmarks export neither, and say so.
+for name in ("arm", "arena", "linkage"):
+    assert by_name[name]["draws_scene"] and by_name[name]["gives_traces"], name
+assert not by_name["sphere-proj"]["draws_scene"] and not by_name["sphere-proj"]["gives_traces"]
+assert "figures     draws its scene and traces elites" in text
+assert "figures     none (report shows the map and curves only)" in text
 refused = {r["path"]: r["reason"] for r in listing["refused"]}
 faults = {"bad-abi": "ABI version 42", "bad-missing": "missing symbol(s) tsr_evaluate",
           "bad-bounds": "lower >= upper", "bad-null-names": "descriptor names are missing"}

@@ -23,22 +23,9 @@ from scipy.stats import spearmanr
 sys.path.insert(0, os.path.join(os.environ["TESSERA_SOURCE_DIR"], "tests", "reference"))
 import selection_reference as ref  # noqa: E402
 
-TESSERA = os.environ["TESSERA"]
-SOURCE = os.environ["TESSERA_SOURCE_DIR"]
-failures = []
+from tessera_test_util import SOURCE, Checks, run_expecting as run  # noqa: E402
 
-
-def run(*args, expect=0):
-    p = subprocess.run([TESSERA, *args], capture_output=True, text=True)
-    if p.returncode != expect:
-        raise SystemExit("tessera %s: exit %d (expected %d)\n%s" % (" ".join(args), p.returncode,
-                                                                   expect, p.stderr))
-    return p
-
-
-def check(condition, message):
-    if not condition:
-        failures.append(message)
+check = Checks()
 
 
 def luminance(rgb):
@@ -187,8 +174,4 @@ with tempfile.TemporaryDirectory() as tmp:
     check("'depth'" in p.stderr and not os.path.exists(os.path.join(tmp, "never")),
           "--axes with an unknown name: %r" % p.stderr)
 
-if failures:
-    print("\n".join(failures[:40]))
-    print("%d failures" % len(failures))
-    sys.exit(1)
-print("report: all checks passed")
+check.finish("report")

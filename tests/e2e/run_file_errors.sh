@@ -6,21 +6,13 @@ set -u
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 fail=0
+# shellcheck source=refusal_util.sh
+source "$(dirname "$0")/refusal_util.sh"
 
 expect_refusal() {  # NAME EXPECTED-SUBSTRING  (run file on stdin)
   local name=$1 expected=$2 file="$work/$1.toml"
   cat > "$file"
-  "$TESSERA" illuminate "$file" --out "$work/out-$name" --quiet >"$work/stdout" 2>"$work/stderr"
-  local rc=$?
-  local lines
-  lines=$(wc -l < "$work/stderr")
-  if [ "$rc" -ne 2 ] || [ "$lines" -ne 1 ] || ! grep -qF -- "$expected" "$work/stderr" \
-     || ! grep -qF "$file" "$work/stderr" || [ -e "$work/out-$name" ]; then
-    echo "FAIL $name: rc=$rc lines=$lines stderr: $(cat "$work/stderr")"
-    fail=1
-  else
-    echo "ok   $name: $(cat "$work/stderr")"
-  fi
+  check_refusal illuminate "$file" "$name" "$expected"
 }
 
 expect_refusal unknown-key ":6: key 'search.batchsize': unknown key" <<'T'

@@ -58,3 +58,31 @@ def assert_same_run(a, b, skip_attrs=("@tool_version",)):
                 assert va.tobytes() == vb.tobytes(), f"{key}: values differ"
         else:
             assert va == vb, f"{key}: {va!r} vs {vb!r}"
+
+
+def run_expecting(*args, expect=0):
+    """Runs tessera with args and stops the test at once unless it exits with `expect`."""
+    proc = subprocess.run([TESSERA, *map(str, args)], capture_output=True, text=True)
+    if proc.returncode != expect:
+        raise SystemExit("tessera %s: exit %d (expected %d)\n%s" % (
+            " ".join(map(str, args)), proc.returncode, expect, proc.stderr))
+    return proc
+
+
+class Checks:
+    """Collects failed checks so that one run of a reference test reports all of them."""
+
+    def __init__(self):
+        self.failures = []
+
+    def __call__(self, condition, message):
+        if not condition:
+            self.failures.append(message)
+
+    def finish(self, what):
+        """Exits 1 listing the failures (the first 40), else says that `what` passed."""
+        if self.failures:
+            print("\n".join(self.failures[:40]))
+            print("%d failures" % len(self.failures))
+            sys.exit(1)
+        print("%s: all checks passed" % what)

@@ -12,6 +12,7 @@ physics the traces draw (numbers read with json and h5py):
   (0, 1 or 2 with the default penalties of 1)."""
 import json
 import os
+import re
 import shutil
 import tempfile
 
@@ -70,6 +71,18 @@ try:
     out, html = report(arm, "arm")
     assert "Scene: arm, with the traces of 3 elites" in html
     assert "grey dots: the end effector of every elite" in html
+    # The drawn elites are spread over the map: greedy farthest-point selection (Gonzalez,
+    # Theoretical Computer Science 38, 1985) from the fittest, in descriptors scaled by the
+    # descriptor box, recomputed here with numpy; ties go to the row stored first.
+    scaled = (a["elites/descriptor"] - a["space/lower"]) / (a["space/upper"] - a["space/lower"])
+    picked = [int(np.argmax(a["elites/fitness"]))]
+    nearest = np.full(len(scaled), np.inf)
+    while len(picked) < 3:
+        nearest = np.minimum(nearest, ((scaled - scaled[picked[-1]]) ** 2).sum(axis=1))
+        picked.append(int(np.argmax(nearest)))
+    drawn = list(dict.fromkeys(int(c) for c in re.findall(r">cell (\d+), fitness", html)))
+    expected = [int(a["elites/cell"][r]) for r in picked]
+    assert drawn == expected, (drawn, expected)
 
     # --- arena: the path ends at the stored final position ---------------------------------
     arena = illuminate(problem("arena-open.toml"), "arena", 400, "--set", "search.batch=100")

@@ -72,16 +72,6 @@ struct LowestTwo {
   }
 };
 
-double squared(const double* a, const double* b, std::size_t dims) {
-  // Same summation order as nanoflann's L2_Simple_Adaptor, so scan and tree agree bit for bit.
-  double result = 0.0;
-  for (std::size_t i = 0; i < dims; ++i) {
-    const double diff = a[i] - b[i];
-    result += diff * diff;
-  }
-  return result;
-}
-
 }  // namespace
 
 struct NearestCentroid::Tree {
@@ -145,14 +135,14 @@ NearestCentroid::NearestCentroid(NearestCentroid&&) noexcept = default;
 NearestCentroid& NearestCentroid::operator=(NearestCentroid&&) noexcept = default;
 
 double NearestCentroid::squared_distance(const double* x, std::uint32_t centroid) const {
-  return squared(x, centroids_.data() + centroid * dims_, dims_);
+  return tessera::squared_distance(x, centroids_.data() + centroid * dims_, dims_);
 }
 
 std::uint32_t NearestCentroid::scan(const double* x) const {
   double best = std::numeric_limits<double>::infinity();
   std::uint32_t index = 0;
   for (std::size_t k = 0; k < count_; ++k) {
-    const double d = squared(x, centroids_.data() + k * dims_, dims_);
+    const double d = tessera::squared_distance(x, centroids_.data() + k * dims_, dims_);
     if (d < best) {  // strict: the first (lowest) index wins ties
       best = d;
       index = static_cast<std::uint32_t>(k);
@@ -180,7 +170,7 @@ std::uint32_t NearestCentroid::nearest(const double* x, std::uint32_t hint) cons
 NearestCentroid::Two NearestCentroid::scan_two(const double* x) const {
   LowestTwo result;
   for (std::size_t k = 0; k < count_; ++k)
-    result.addPoint(squared(x, centroids_.data() + k * dims_, dims_),
+    result.addPoint(tessera::squared_distance(x, centroids_.data() + k * dims_, dims_),
                     static_cast<std::uint32_t>(k));
   return {result.index[0], result.best[0], result.best[1]};
 }
@@ -200,7 +190,8 @@ std::size_t NearestCentroid::nearest_k(const double* x, std::size_t m, std::uint
   if (!tree_) {
     std::vector<std::pair<double, std::uint32_t>> all(count_);
     for (std::size_t k = 0; k < count_; ++k)
-      all[k] = {squared(x, centroids_.data() + k * dims_, dims_), static_cast<std::uint32_t>(k)};
+      all[k] = {tessera::squared_distance(x, centroids_.data() + k * dims_, dims_),
+                static_cast<std::uint32_t>(k)};
     std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(m), all.end());
     for (std::size_t j = 0; j < m; ++j) {
       squared_out[j] = all[j].first;

@@ -22,6 +22,17 @@ struct PointCloud {
   }
 };
 
+// Squared Euclidean distance in the summation order of nanoflann's L2_Simple_Adaptor, so that a
+// linear scan and a tree search agree bit for bit.
+inline double squared_distance(const double* a, const double* b, std::size_t dims) {
+  double result = 0.0;
+  for (std::size_t i = 0; i < dims; ++i) {
+    const double diff = a[i] - b[i];
+    result += diff * diff;
+  }
+  return result;
+}
+
 // TreeOf<Dim> derives from Base and is constructible from a PointCloud; Dim = -1 is dynamic.
 template <template <int> class TreeOf, class Base>
 std::unique_ptr<Base> make_tree_for_dimension(PointCloud cloud) {

@@ -68,16 +68,6 @@ using Tree = nanoflann::KDTreeSingleIndexAdaptor<Metric, PointCloud, -1, std::ui
 // Below this many points a scan is as fast as building a tree.
 constexpr std::size_t kScanLimit = 64;
 
-double squared(const double* a, const double* b, std::size_t dims) {
-  // The summation order of nanoflann's L2_Simple_Adaptor: tree and scan agree bit for bit.
-  double result = 0.0;
-  for (std::size_t i = 0; i < dims; ++i) {
-    const double diff = a[i] - b[i];
-    result += diff * diff;
-  }
-  return result;
-}
-
 }  // namespace
 
 NeighbourScores score_neighbours(std::span<const double> points, std::size_t dims,
@@ -115,7 +105,7 @@ NeighbourScores score_neighbours(std::span<const double> points, std::size_t dim
                           tree->findNeighbors(found, x, nanoflann::SearchParams());
                         } else {
                           for (std::size_t i = 0; i < n; ++i)
-                            found.addPoint(squared(x, points.data() + i * dims, dims),
+                            found.addPoint(squared_distance(x, points.data() + i * dims, dims),
                                            static_cast<std::uint32_t>(i));
                         }
                         double sum = 0.0;

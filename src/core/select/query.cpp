@@ -66,16 +66,6 @@ class OrderedNearest {
   double worst_ = std::numeric_limits<double>::infinity();
 };
 
-double squared(const double* a, const double* b, std::size_t dims) {
-  // Same summation order as nanoflann's L2_Simple_Adaptor, so scan and tree agree bit for bit.
-  double result = 0.0;
-  for (std::size_t i = 0; i < dims; ++i) {
-    const double diff = a[i] - b[i];
-    result += diff * diff;
-  }
-  return result;
-}
-
 }  // namespace
 
 struct NearestElites::Tree {
@@ -166,7 +156,7 @@ std::vector<Neighbour> NearestElites::nearest_by_scan(std::span<const double> ta
   std::vector<Neighbour> out;
   if (k == 0) return out;
   for (std::size_t r = 0; r < rows_.size(); ++r) {
-    const double d2 = squared(x.data(), points_.data() + r * dims_, dims_);
+    const double d2 = squared_distance(x.data(), points_.data() + r * dims_, dims_);
     if (d2 < result.worstDist()) result.addPoint(d2, static_cast<std::uint32_t>(r));
   }
   for (const auto& [d2, idx] : result.items()) out.push_back({rows_[idx], std::sqrt(d2)});
