@@ -211,8 +211,8 @@ toml::table* array_entry(toml::table& parent, const std::string& part, std::size
   auto* list = parent[name].as_array();
   const std::size_t size = list ? list->size() : 0;
   if (index >= size)
-    throw InputError("--set " + assignment + ": the run file has " + std::to_string(size) +
-                     " '" + name + "' entries, so no entry " + std::to_string(index));
+    throw InputError("--set " + assignment + ": the run file has " + std::to_string(size) + " '" +
+                     name + "' entries, so no entry " + std::to_string(index));
   auto* entry = (*list)[index].as_table();
   if (!entry) throw InputError("--set " + assignment + ": '" + part + "' is not a table");
   return entry;
