@@ -11,7 +11,12 @@
 
 namespace tessera::projection {
 
-inline constexpr double kBound = 5.12;   // genome in [-5.12, 5.12]^n
+inline constexpr double kBound = 5.12;  // genome in [-5.12, 5.12]^n by default
+// Widest genome box of option genome_bound. The published benchmark (Fontaine et al., GECCO
+// 2020; Fontaine & Nikolaidis, ICLR 2023; from memory) leaves the genome unbounded; a box wider
+// than 5.12 keeps what matters of it: a parameter past 5.12 adds only 5.12 / x to its sum, so
+// the extreme descriptors need every parameter exactly at +-5.12, not merely clipped there.
+inline constexpr double kWidestBox = 1e6;
 inline constexpr double kShift = 2.048;  // the optimum sits at x_i = 2.048
 inline constexpr double kFitnessLower = 0.0;
 inline constexpr double kFitnessUpper = 100.0;
@@ -42,7 +47,8 @@ inline double objective(Kind kind, const double* x, std::size_t n) {
   return kind == Kind::kSphere ? sphere(x, n) : rastrigin(x, n);
 }
 
-// f_max = f(-5.12, ..., -5.12): the corner farthest from the shifted optimum.
+// f_max = f(-5.12, ..., -5.12): the corner farthest from the shifted optimum (the published
+// normalisation, from memory). In a wider genome box a worse point gets fitness 0 (clamped).
 inline double objective_max(Kind kind, std::size_t n) {
   std::vector<double> corner(n, -kBound);
   return objective(kind, corner.data(), n);

@@ -4,6 +4,7 @@
 #include <set>
 
 #include "core/base/errors.hpp"
+#include "io/closest_name.hpp"
 
 namespace tessera {
 namespace {
@@ -11,9 +12,16 @@ namespace {
 struct EntryChecker {
   const std::string& source;
   std::string prefix;  // "search.emitters[i]"
+  const std::map<std::string, std::string>* overrides = nullptr;
 
   [[noreturn]] void fail(const toml::node* node, const std::string& key,
                          const std::string& fault) const {
+    // A key given on the command line is blamed there, as the other run-file keys are.
+    const std::string full = prefix + (key.empty() ? "" : "." + key);
+    if (overrides)
+      if (const auto it = overrides->find(full); it != overrides->end())
+        throw InputError("--set " + it->second + ": " + fault + " (command-line value for " +
+                         source + ")");
     std::string where = source;
     if (node && node->source().begin.line > 0)
       where += ":" + std::to_string(node->source().begin.line);
@@ -31,6 +39,24 @@ const std::set<std::string>& kind_keys(const std::string& kind) {
   static const std::set<std::string> cma_me = {"ranking", "patience"};
   static const std::set<std::string> cma_mae = {"learning_rate", "patience"};
   return kind == "variation" ? variation : kind == "cma-me" ? cma_me : cma_mae;
+}
+const std::vector<std::string>& kinds() {
+  static const std::vector<std::string> names = {"variation", "cma-me", "cma-mae"};
+  return names;
+}
+
+// "unknown key", with the nearest key this kind takes when one is close, else the kind that
+// takes it, else the list of this kind's keys.
+std::string unknown_entry_key_fault(const std::string& kind, const std::string& key) {
+  std::vector<std::string> known(common_keys().begin(), common_keys().end());
+  known.insert(known.end(), kind_keys(kind).begin(), kind_keys(kind).end());
+  const std::string fault = "unknown key for kind = \"" + kind + "\"";
+  if (const auto near = closest_name(key, known)) return fault + " (did you mean '" + *near + "'?)";
+  for (const auto& other : kinds())
+    if (kind_keys(other).count(key)) return fault + " (a key of kind = \"" + other + "\")";
+  std::string list;
+  for (const auto& name : known) list += (list.empty() ? "" : ", ") + name;
+  return fault + " (its keys are " + list + ")";
 }
 
 std::int64_t integer_key(toml::table& t, const std::string& key, std::int64_t fallback,
@@ -65,25 +91,33 @@ std::string string_key(toml::table& t, const std::string& key, const std::string
 
 }  // namespace
 
-std::vector<EmitterSpec> parse_emitter_entries(toml::array& entries, const std::string& source) {
+std::vector<EmitterSpec> parse_emitter_entries(
+    toml::array& entries, const std::string& source,
+    const std::map<std::string, std::string>& overrides) {
   std::vector<EmitterSpec> specs;
   if (entries.empty())
-    EntryChecker{source, "search.emitters"}.fail(&entries, "", "needs at least one entry");
+    EntryChecker{source, "search.emitters", &overrides}.fail(&entries, "",
+                                                             "needs at least one entry");
   for (std::size_t i = 0; i < entries.size(); ++i) {
-    const EntryChecker checker{source, "search.emitters[" + std::to_string(i) + "]"};
+    const EntryChecker checker{source, "search.emitters[" + std::to_string(i) + "]", &overrides};
     auto* table = entries[i].as_table();
     if (!table) checker.fail(&entries[i], "", "must be a table ([[search.emitters]])");
     EmitterSpec spec;
     if (!table->contains("kind"))
       checker.fail(table, "kind", "missing (variation, cma-me or cma-mae)");
     spec.kind = string_key(*table, "kind", "", checker);
-    if (spec.kind != "variation" && spec.kind != "cma-me" && spec.kind != "cma-mae")
-      checker.fail((*table)["kind"].node(), "kind",
-                   "unknown kind '" + spec.kind + "' (choose variation, cma-me or cma-mae)");
+    if (spec.kind != "variation" && spec.kind != "cma-me" && spec.kind != "cma-mae") {
+      const auto near = closest_name(spec.kind, kinds());
+      checker.fail(
+          (*table)["kind"].node(), "kind",
+          "unknown kind '" + spec.kind + "' (" +
+              (near ? "did you mean '" + *near + "'?" : "choose variation, cma-me or cma-mae") +
+              ")");
+    }
     for (const auto& [key, node] : *table) {
       const std::string name(key.str());
       if (!common_keys().count(name) && !kind_keys(spec.kind).count(name))
-        checker.fail(&node, name, "unknown key for kind = \"" + spec.kind + "\"");
+        checker.fail(&node, name, unknown_entry_key_fault(spec.kind, name));
     }
     spec.count = static_cast<std::size_t>(integer_key(*table, "count", 1, 1, checker));
     spec.batch = static_cast<std::size_t>(integer_key(*table, "batch", kDefaultEmitterBatch,
@@ -125,7 +159,7 @@ std::vector<EmitterSpec> parse_emitter_entries(toml::array& entries, const std::
   for (std::size_t i = 0; i < specs.size(); ++i) {
     if (specs[i].kind != "cma-mae") continue;
     if (rate >= 0.0 && specs[i].cma.learning_rate != rate)
-      EntryChecker{source, "search.emitters[" + std::to_string(i) + "]"}.fail(
+      EntryChecker{source, "search.emitters[" + std::to_string(i) + "]", &overrides}.fail(
           entries[i].as_table()->get("learning_rate"), "learning_rate",
           "differs from an earlier cma-mae entry's (the archive keeps one learning rate)");
     rate = specs[i].cma.learning_rate;

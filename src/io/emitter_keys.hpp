@@ -6,6 +6,7 @@
 
 #include <toml++/toml.h>
 
+#include <map>
 #include <string>
 #include <vector>
 
@@ -18,7 +19,10 @@ namespace tessera {
 inline constexpr std::int64_t kDefaultEmitterBatch = 36;
 
 // Reads and completes the entries. Throws InputError "SOURCE:LINE: key 'search.emitters[i].K':
-// fault".
-std::vector<EmitterSpec> parse_emitter_entries(toml::array& entries, const std::string& source);
+// fault" (an unknown key or kind names the nearest known one when it is close), or "--set
+// ASSIGNMENT: fault (...)" for a key in `overrides` (full key -> the --set assignment).
+std::vector<EmitterSpec> parse_emitter_entries(
+    toml::array& entries, const std::string& source,
+    const std::map<std::string, std::string>& overrides = {});
 
 }  // namespace tessera

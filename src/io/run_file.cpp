@@ -199,6 +199,25 @@ toml::table& section_of(toml::table& root, const std::string& name) {
   return *root[name].as_table();
 }
 
+// The table `part` = "name[i]" of `parent` names: entry i of an array of tables.
+toml::table* array_entry(toml::table& parent, const std::string& part, std::size_t open,
+                         const std::string& assignment) {
+  const std::string name = part.substr(0, open);
+  const std::string digits = part.substr(open + 1, part.size() - open - 2);
+  if (part.back() != ']' || digits.empty() ||
+      digits.find_first_not_of("0123456789") != std::string::npos || digits.size() > 9)
+    throw InputError("--set " + assignment + ": '" + part + "': expected NAME[INDEX]");
+  const std::size_t index = std::stoul(digits);
+  auto* list = parent[name].as_array();
+  const std::size_t size = list ? list->size() : 0;
+  if (index >= size)
+    throw InputError("--set " + assignment + ": the run file has " + std::to_string(size) + " '" +
+                     name + "' entries, so no entry " + std::to_string(index));
+  auto* entry = (*list)[index].as_table();
+  if (!entry) throw InputError("--set " + assignment + ": '" + part + "' is not a table");
+  return entry;
+}
+
 void apply_override(toml::table& root, const std::string& assignment, const std::string& source) {
   const auto eq = assignment.find('=');
   const auto dot = assignment.find('.');
@@ -214,12 +233,17 @@ void apply_override(toml::table& root, const std::string& assignment, const std:
     parsed = toml::table{};
     parsed.insert("v", value);  // a bare word is a string
   }
-  // Walk down "a.b.c", creating tables on the way.
+  // Walk down "a.b.c", creating tables on the way; "a.list[i].c" enters the i-th table of an
+  // array of tables the file already has (search.emitters).
   toml::table* table = &root;
   std::string rest = path;
   for (auto pos = rest.find('.'); pos != std::string::npos; pos = rest.find('.')) {
     const std::string part = rest.substr(0, pos);
     rest = rest.substr(pos + 1);
+    if (const auto open = part.find('['); open != std::string::npos) {
+      table = array_entry(*table, part, open, assignment);
+      continue;
+    }
     if (!table->contains(part)) table->insert(part, toml::table{});
     table = (*table)[part].as_table();
     if (!table) throw InputError("--set " + assignment + ": '" + part + "' is not a table");
@@ -399,7 +423,7 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
   if (auto* entries = search["emitters"].as_array()) {
     if (config.algorithm != "map-elites")
       checker.fail(entries, "search.emitters", "only for algorithm = \"map-elites\"");
-    config.emitters = parse_emitter_entries(*entries, source);
+    config.emitters = parse_emitter_entries(*entries, source, overridden);
     // The batch is the emitters' candidates together.
     const auto total = static_cast<std::int64_t>(emitter_list_batch(config.emitters, 1));
     if (batch_given && get_int(search, "batch", 0) != total)

@@ -53,6 +53,29 @@ message = refused("illuminate", runfile, "--out", out, expect="key 'search.budge
 assert "did you mean" not in message and "evaluations" in message, message  # lists the keys
 refused("illuminate", problem("arm.toml"), "--out", out, "--set", "serch.batch=4",
         expect="unknown table [serch] (did you mean [search]?)")
+# Inside [[search.emitters]]: the nearest key of the entry's kind, in the file and with --set
+# (which addresses entry i as search.emitters[i]); "sigmaa" is one deletion from "sigma".
+with open(runfile, "w") as f:
+    f.write('[problem]\nname = "arm"\n[space]\nresolution = 10\n[[search.emitters]]\n'
+            'kind = "cma-mae"\nsigmaa = 0.1\n')
+refused("illuminate", runfile, "--out", out,
+        expect=f"{runfile}:7: key 'search.emitters[0].sigmaa': unknown key for kind = "
+               "\"cma-mae\" (did you mean 'sigma'?)")
+refused("illuminate", problem("arm-cma-me.toml"), "--out", out, "--set",
+        "search.emitters[0].sigmaa=0.1",
+        expect="--set search.emitters[0].sigmaa=0.1: unknown key for kind = \"cma-me\" (did you "
+               "mean 'sigma'?) (command-line value for ")
+refused("illuminate", problem("arm-cma-me.toml"), "--out", out, "--set",
+        "search.emitters[1].sigma=0.1",
+        expect="--set search.emitters[1].sigma=0.1: the run file has 1 'emitters' entries, so no "
+               "entry 1")
+# A --set inside an entry reaches the run: the stored run file holds the new step size.
+run("illuminate", problem("arm-cma-me.toml"), "--out", out, "-n", 1080, "--quiet", "--set",
+    "search.emitters[0].sigma=0.125", "--set", "problem.options.joints=4")
+with h5py.File(os.path.join(out, "archive.h5"), "r") as f:
+    stored = f.attrs["config"]
+stored = stored.decode() if isinstance(stored, bytes) else stored
+assert re.search(r"sigma = 0\.125\b", stored), stored
 
 # --- rates after resume -----------------------------------------------------------------------
 arm = os.path.join(work, "arm")

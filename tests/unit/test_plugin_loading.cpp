@@ -16,9 +16,9 @@
 #include <vector>
 
 #include "arm/arm_model.hpp"
+#include "core/archive/space.hpp"
 #include "core/base/errors.hpp"
 #include "core/search/map_elites.hpp"
-#include "core/archive/space.hpp"
 #include "core/search/variation_emitter.hpp"
 #include "eval/thread_evaluator.hpp"
 #include "problems/plugin_problem.hpp"
@@ -236,6 +236,28 @@ TEST_CASE("plugin options are read with toml++ and checked", "[options]") {
     const auto problem = tessera::open_plugin_problem("sphere-proj", "dimensions = 10");
     CHECK(problem->info().genome_size() == 10);
     CHECK(problem->info().descriptor.upper[0] == Approx(25.6).epsilon(1e-15));
+  }
+  SECTION("projection genome_bound widens the genome box, where parameters fold back") {
+    const auto problem =
+        tessera::open_plugin_problem("rastrigin-proj", "dimensions = 4\ngenome_bound = 10.24");
+    const auto& info = problem->info();
+    for (std::size_t i = 0; i < 4; ++i) {
+      CHECK(info.genome.lower[i] == -10.24);
+      CHECK(info.genome.upper[i] == 10.24);
+    }
+    CHECK(info.descriptor.upper[0] == Approx(10.24).epsilon(1e-15));  // still 2 x 5.12
+    auto instance = problem->make_instance();
+    tessera::Batch batch;
+    batch.resize(1, 4, 2, 0);
+    // Hand-computed with the published clip (5.12 / x past 5.12, from memory): 10.24 -> 0.5,
+    // -6.4 -> -0.8; 5.12 and -1 stay.
+    batch.genomes = {10.24, 5.12, -6.4, -1.0};
+    instance->evaluate(batch, 0, 1);
+    CHECK(batch.descriptors[0] == Approx(5.62).epsilon(1e-14));
+    CHECK(batch.descriptors[1] == Approx(-1.8).epsilon(1e-14));
+    CHECK(contains(
+        input_error_of([] { tessera::open_plugin_problem("sphere-proj", "genome_bound = 5.0"); }),
+        "'genome_bound'"));
   }
   SECTION("bad options are refused naming the plugin file and quoting its reason") {
     const std::string unknown =
