@@ -71,7 +71,8 @@ def main():
     print(f"  numpy MAP-Elites (its loop only)                {med(n_loop):12.0f} /s")
     print(f"  tessera / numpy loop      {med(t_rate) / med(n_loop):6.2f}x  (target >= 4x)")
     print(f"  tessera / numpy process   {med(t_rate) / med(n_process):6.2f}x")
-    print(f"  QD-score tessera / numpy  {med(t_qd) / med(n_qd):6.3f}   (target >= 1)")
+    print(f"  QD-score tessera / numpy  {med(t_qd) / med(n_qd):6.3f}   (target >= 1; range over seeds: "
+          f"tessera {min(t_qd):.1f}..{max(t_qd):.1f}, numpy {min(n_qd):.1f}..{max(n_qd):.1f})")
     print(f"  load before: {uptime_before}")
     print(f"  load after:  {uptime_after}")
 
