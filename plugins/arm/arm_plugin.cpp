@@ -23,7 +23,6 @@ constexpr const char* kName = "arm";
 struct ArmOptions {
   std::size_t joints = 10;
   tessera::arm::ArmDamage damage;
-  bool damaged() const { return damage.stuck_joint >= 0 || damage.has_target; }
 };
 
 ArmOptions read_options(const char* text) {
@@ -52,7 +51,6 @@ ArmOptions read_options(const char* text) {
 struct tsr_instance {
   ArmOptions options;
   glue::MetadataStore metadata;
-  std::vector<double> scratch;  // joint angles after damage
 };
 
 TESSERA_GLUE_STANDARD_EXPORTS(kName)
@@ -86,7 +84,6 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
                    std::to_string(damage.target_y) + "), fitness = -distance";
       m.fitness_lower = -(1.0 + std::hypot(damage.target_x, damage.target_y));
     }
-    instance->scratch.assign(n, 0.0);
     m.finish();
     return instance.release();
   } catch (const std::exception& e) {
@@ -100,17 +97,11 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
 TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* genomes,
                             double* fitness, double* descriptors, unsigned char* valid,
                             double* /*extras*/, char* /*error*/, size_t /*error_size*/) {
-  const std::size_t n = instance->options.joints;
-  for (std::size_t k = 0; k < count; ++k) {
-    double* descriptor = descriptors + 2 * k;
-    if (instance->options.damaged())
-      tessera::arm::evaluate_damaged(genomes + k * n, n, instance->options.damage,
-                                     instance->scratch.data(), fitness[k], descriptor);
-    else
-      tessera::arm::evaluate(genomes + k * n, n, fitness[k], descriptor);
-    valid[k] =
-        std::isfinite(fitness[k]) && std::isfinite(descriptor[0]) && std::isfinite(descriptor[1]);
-  }
+  tessera::arm::evaluate_batch(genomes, count, instance->options.joints, instance->options.damage,
+                               fitness, descriptors);
+  for (std::size_t k = 0; k < count; ++k)
+    valid[k] = std::isfinite(fitness[k]) && std::isfinite(descriptors[2 * k]) &&
+               std::isfinite(descriptors[2 * k + 1]);
   return TSR_OK;
 }
 
@@ -141,20 +132,18 @@ TSR_EXPORT int tsr_trace(tsr_instance* instance, const double* genome, tsr_figur
   return glue::write_figure(figure, error, error_size, [&](glue::FigureBuilder& f) {
     const std::size_t n = instance->options.joints;
     const auto& damage = instance->options.damage;
-    std::vector<double> theta(genome, genome + n);
-    if (damage.stuck_joint >= 0)
-      theta[static_cast<std::size_t>(damage.stuck_joint)] = damage.stuck_angle;
-    // Joint i sits at the end of link i; the same sums, in the same order, as the evaluation.
-    const double link = 1.0 / static_cast<double>(n);
+    // Joint i sits at the end of link i: the evaluation's own walk, so the last joint is the
+    // descriptor to the bit.
     std::vector<double> joints = {0.0, 0.0, 0.0}, angles;
-    double angle = 0.0, x = 0.0, y = 0.0;
-    for (std::size_t i = 0; i < n; ++i) {
-      angle += theta[i];
-      x += link * std::cos(angle);
-      y += link * std::sin(angle);
-      joints.insert(joints.end(), {static_cast<double>(i + 1), x, y});
-      angles.insert(angles.end(), {static_cast<double>(i + 1), theta[i], angle});
-    }
+    tessera::arm::walk2(
+        genome, genome, n, damage,
+        [&](std::size_t i, tessera::lanes::Double2 angle, tessera::lanes::Double2 x,
+            tessera::lanes::Double2 y) {
+          const double theta =
+              static_cast<long>(i) == damage.stuck_joint ? damage.stuck_angle : genome[i];
+          joints.insert(joints.end(), {static_cast<double>(i + 1), x[0], y[0]});
+          angles.insert(angles.end(), {static_cast<double>(i + 1), theta, angle[0]});
+        });
     f.note("units", "arm lengths (total length 1); angles in radians");
     f.add(TSR_POLYLINE, TSR_STYLE_BODY, "joints", "joint,x,y", joints);
     f.add(TSR_SERIES, TSR_STYLE_LINE, "angles", "joint,relative_rad,absolute_rad", angles);

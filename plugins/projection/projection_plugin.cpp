@@ -88,13 +88,11 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
 TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* genomes,
                             double* fitness, double* descriptors, unsigned char* valid,
                             double* /*extras*/, char* /*error*/, size_t /*error_size*/) {
-  const std::size_t n = instance->options.dimensions;
-  for (std::size_t k = 0; k < count; ++k) {
-    double* descriptor = descriptors + 2 * k;
-    model::evaluate(kKind, genomes + k * n, n, instance->f_max, fitness[k], descriptor);
-    valid[k] =
-        std::isfinite(fitness[k]) && std::isfinite(descriptor[0]) && std::isfinite(descriptor[1]);
-  }
+  model::evaluate_batch(kKind, genomes, count, instance->options.dimensions, instance->f_max,
+                        fitness, descriptors);
+  for (std::size_t k = 0; k < count; ++k)
+    valid[k] = std::isfinite(fitness[k]) && std::isfinite(descriptors[2 * k]) &&
+               std::isfinite(descriptors[2 * k + 1]);
   return TSR_OK;
 }
 

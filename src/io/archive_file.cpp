@@ -311,6 +311,7 @@ void write_contents(hid_t file, const ArchiveSnapshot& s) {
   write_scalar_attr<std::uint64_t>(file, "seed", s.seed);
   write_scalar_attr<std::uint64_t>(file, "evaluations", s.evaluations);
   write_string_attr(file, "tool_version", s.tool_version);
+  write_scalar_attr<std::int64_t>(file, "random_streams", s.random_streams);
 
   const std::uint64_t d = s.descriptor_size();
   {
@@ -787,6 +788,11 @@ void Reader::read_root(ArchiveSnapshot& s) {
   s.seed = uint_attr(root, "/", "seed");
   s.evaluations = uint_attr(root, "/", "evaluations");
   s.tool_version = string_attr(root, "/", "tool_version");
+  // Files written before the streams were versioned drew with version 1; a version this
+  // tessera does not know is kept as read and refused only by a resume (stream_version).
+  s.random_streams = ok(H5Aexists(root, "random_streams"), "H5Aexists") > 0
+                         ? int_attr(root, "/", "random_streams")
+                         : kOldestStreamVersionNumber;
 }
 
 void Reader::read_space(ArchiveSnapshot& s) {

@@ -2,11 +2,14 @@
 // closed-form cases, hand-computed points and an independent numpy implementation.
 #include <unistd.h>
 
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <cstdio>
+#include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <functional>
 #include <numbers>
 #include <random>
 #include <sstream>
@@ -57,7 +60,8 @@ using tessera::projection::Kind;
 
 TEST_CASE("arm forward kinematics matches closed-form postures", "[arm]") {
   // Planar serial arm: p = sum_i l_i (cos a_i, sin a_i), a_i = theta_1 + ... + theta_i (Craig,
-  // Introduction to Robotics, planar manipulators); every link 1/n long (README.md, Shipped problems).
+  // Introduction to Robotics, planar manipulators); every link 1/n long (README.md, Shipped
+  // problems).
   SECTION("all joints at zero: the arm lies along the x axis, tip at (1, 0)") {
     for (std::size_t n : {1u, 2u, 10u, 37u}) {
       const Arm a = arm(std::vector<double>(n, 0.0));
@@ -175,7 +179,8 @@ TEST_CASE("projection descriptors on hand-computed points", "[projection]") {
 }
 
 TEST_CASE("models agree with an independent numpy implementation", "[numpy]") {
-  // tests/reference/shipped_problems.py implements the README's shipped problems with numpy (Debian python3-numpy).
+  // tests/reference/shipped_problems.py implements the README's shipped problems with numpy (Debian
+  // python3-numpy).
   namespace fs = std::filesystem;
   const fs::path dir = fs::temp_directory_path() / ("tessera-ref-" + std::to_string(getpid()));
   fs::create_directories(dir);
@@ -232,4 +237,125 @@ TEST_CASE("models agree with an independent numpy implementation", "[numpy]") {
     }
   }
   fs::remove_all(dir);
+}
+
+namespace {
+
+bool same_bits(const std::vector<double>& a, const std::vector<double>& b) {
+  return a.size() == b.size() && std::memcmp(a.data(), b.data(), a.size() * sizeof(double)) == 0;
+}
+
+}  // namespace
+
+TEST_CASE("arm batch kernel agrees with the scalar formula to rounding", "[kernels]") {
+  // The README's definition evaluated with std::sin / std::cos one joint at a time. glibc's
+  // vector sine and cosine (libmvec) are within 4 ulp of the exact values (glibc manual, "Errors
+  // in Math Functions"); over n links of length 1/n the end effector moves by less than 1e-15.
+  std::mt19937_64 rng(11);
+  for (const std::size_t n : {1u, 3u, 10u, 40u}) {
+    std::uniform_real_distribution<double> uniform(-kPi, kPi);
+    const std::size_t count = 999;
+    std::vector<double> genomes(count * n), fitness(count), descriptors(2 * count);
+    for (double& v : genomes) v = uniform(rng);
+    tessera::arm::evaluate_batch(genomes.data(), count, n, {}, fitness.data(), descriptors.data());
+    double worst = 0.0;
+    for (std::size_t k = 0; k < count; ++k) {
+      const double* theta = genomes.data() + k * n;
+      double angle = 0.0, x = 0.0, y = 0.0, sum = 0.0, squares = 0.0;
+      for (std::size_t i = 0; i < n; ++i) {
+        angle += theta[i];
+        x += std::cos(angle) / static_cast<double>(n);
+        y += std::sin(angle) / static_cast<double>(n);
+        sum += theta[i];
+      }
+      const double mean = sum / static_cast<double>(n);
+      for (std::size_t i = 0; i < n; ++i) squares += (theta[i] - mean) * (theta[i] - mean);
+      CHECK(fitness[k] == -squares / static_cast<double>(n));  // no sine or cosine: exact
+      worst = std::max(
+          {worst, std::fabs(descriptors[2 * k] - x), std::fabs(descriptors[2 * k + 1] - y)});
+    }
+    INFO(n << " joints");
+    CHECK(worst <= 1e-15);
+  }
+}
+
+TEST_CASE("projection batch kernels agree with the scalar formulas to rounding", "[kernels]") {
+  // Rastrigin's 10 cos(2 pi z) terms carry libmvec's error (within 4 ulp, glibc manual): the
+  // objective agrees to 1e-15 of the sum of its terms' magnitudes; sphere has no cosine: exact.
+  std::mt19937_64 rng(12);
+  std::uniform_real_distribution<double> uniform(-2 * 5.12, 2 * 5.12);
+  const std::size_t n = 100, count = 501;
+  std::vector<double> genomes(count * n);
+  for (double& v : genomes) v = uniform(rng);
+  for (const Kind kind : {Kind::kSphere, Kind::kRastrigin}) {
+    for (std::size_t k = 0; k < count; ++k) {
+      const double* x = genomes.data() + k * n;
+      double f = kind == Kind::kSphere ? 0.0 : 10.0 * static_cast<double>(n), magnitude = f;
+      for (std::size_t i = 0; i < n; ++i) {
+        const double z = x[i] - 2.048;
+        const double term = kind == Kind::kSphere ? z * z : z * z - 10.0 * std::cos(2.0 * kPi * z);
+        f += term;
+        magnitude += z * z + (kind == Kind::kSphere ? 0.0 : 10.0);
+      }
+      const double got = tessera::projection::objective(kind, x, n);
+      if (kind == Kind::kSphere)
+        CHECK(got == f);
+      else
+        CHECK(std::fabs(got - f) <= 1e-15 * magnitude);
+    }
+  }
+}
+
+TEST_CASE("a genome gives the same bits in any lane and chunk of a batch", "[kernels]") {
+  // Odd and even counts, shifted by one genome so that each lands in the other lane, and alone
+  // (paired with itself): every result bit-identical.
+  std::mt19937_64 rng(13);
+  tessera::arm::ArmDamage stuck;
+  stuck.stuck_joint = 3;
+  stuck.stuck_angle = 0.4;
+  tessera::arm::ArmDamage reach = stuck;
+  reach.has_target = true;
+  reach.target_x = 0.3;
+  reach.target_y = -0.2;
+  struct Case {
+    const char* name;
+    std::size_t n;
+    double bound;
+    std::function<void(const double*, std::size_t, double*, double*)> batch;
+  };
+  const auto arm_case = [](tessera::arm::ArmDamage d) {
+    return [d](const double* g, std::size_t c, double* f, double* desc) {
+      tessera::arm::evaluate_batch(g, c, 10, d, f, desc);
+    };
+  };
+  const auto projection_case = [](Kind kind) {
+    return [kind](const double* g, std::size_t c, double* f, double* desc) {
+      tessera::projection::evaluate_batch(kind, g, c, 100,
+                                          tessera::projection::objective_max(kind, 100), f, desc);
+    };
+  };
+  const std::vector<Case> cases = {
+      {"arm", 10, kPi, arm_case({})},
+      {"arm, stuck joint", 10, kPi, arm_case(stuck)},
+      {"arm, stuck joint and target", 10, kPi, arm_case(reach)},
+      {"sphere-proj", 100, 10.24, projection_case(Kind::kSphere)},
+      {"rastrigin-proj", 100, 10.24, projection_case(Kind::kRastrigin)}};
+  for (const Case& c : cases) {
+    INFO(c.name);
+    std::uniform_real_distribution<double> uniform(-c.bound, c.bound);
+    const std::size_t count = 37;
+    std::vector<double> genomes((count + 1) * c.n);
+    for (double& v : genomes) v = uniform(rng);
+    std::vector<double> f_all(count + 1), d_all(2 * (count + 1));
+    c.batch(genomes.data(), count + 1, f_all.data(), d_all.data());
+    std::vector<double> f_shift(count), d_shift(2 * count);
+    c.batch(genomes.data() + c.n, count, f_shift.data(), d_shift.data());
+    CHECK(same_bits({f_all.begin() + 1, f_all.end()}, f_shift));
+    CHECK(same_bits({d_all.begin() + 2, d_all.end()}, d_shift));
+    std::vector<double> f_one(count + 1), d_one(2 * (count + 1));
+    for (std::size_t k = 0; k <= count; ++k)
+      c.batch(genomes.data() + k * c.n, 1, &f_one[k], &d_one[2 * k]);
+    CHECK(same_bits(f_all, f_one));
+    CHECK(same_bits(d_all, d_one));
+  }
 }

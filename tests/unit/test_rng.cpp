@@ -1,8 +1,18 @@
 // The counter-keyed random streams: distributions and independence of keys.
 #include <catch2/catch.hpp>
 
+#include <unistd.h>
+
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+#include <map>
+#include <sstream>
+#include <stdexcept>
+#include <string>
 #include <vector>
 
 #include "core/base/rng.hpp"
@@ -22,6 +32,35 @@ double ks_statistic(std::vector<double> x, Cdf cdf) {
     d = std::max({d, (static_cast<double>(i) + 1) / n - f, f - static_cast<double>(i) / n});
   }
   return d;
+}
+
+// Runs tests/reference/normal_sample_check.py (scipy) on `x`; returns its name -> value pairs.
+std::map<std::string, double> scipy_check(const std::vector<double>& x) {
+  namespace fs = std::filesystem;
+  const fs::path file =
+      fs::temp_directory_path() / ("tessera-normals-" + std::to_string(getpid()) + ".bin");
+  {
+    std::ofstream out(file, std::ios::binary);
+    out.write(reinterpret_cast<const char*>(x.data()),
+              static_cast<std::streamsize>(x.size() * sizeof(double)));
+  }
+  const std::string command = "/usr/bin/python3 " TESSERA_SOURCE_DIR
+                              "/tests/reference/normal_sample_check.py " +
+                              file.string();
+  FILE* pipe = popen(command.c_str(), "r");
+  if (pipe == nullptr) throw std::runtime_error("cannot run python3");
+  std::string text;
+  char buffer[4096];
+  while (std::fgets(buffer, sizeof buffer, pipe) != nullptr) text += buffer;
+  const int status = pclose(pipe);
+  fs::remove(file);
+  if (status != 0) throw std::runtime_error("normal_sample_check.py failed");
+  std::map<std::string, double> values;
+  std::istringstream in(text);
+  std::string name;
+  double value = 0;
+  while (in >> name >> value) values[name] = value;
+  return values;
 }
 
 }  // namespace
@@ -62,7 +101,8 @@ TEST_CASE("uniform deviates and below(n) are uniform") {
   CHECK(chi2 < 21.67);
   std::vector<double> x;
   for (int i = 0; i < 20000; ++i) x.push_back(rng.uniform());
-  CHECK(ks_statistic(x, [](double v) { return std::clamp(v, 0.0, 1.0); }) < 1.628 / std::sqrt(20000.0));
+  CHECK(ks_statistic(x, [](double v) { return std::clamp(v, 0.0, 1.0); }) <
+        1.628 / std::sqrt(20000.0));
 }
 
 TEST_CASE("streams are fixed by their keys and differ between keys") {
@@ -73,4 +113,80 @@ TEST_CASE("streams are fixed by their keys and differ between keys") {
     CHECK(va != c.next());
     CHECK(va != d.next());
   }
+}
+
+TEST_CASE("both stream versions give standard normal deviates by scipy's tests", "[scipy]") {
+  // 10^6 draws from 1000 streams of 1000, as candidates draw them. scipy.stats.kstest against the
+  // standard normal; moments within four standard errors; the ziggurat's tail (|x| > r) as often
+  // as the normal law says, within four binomial standard deviations.
+  for (const StreamVersion version : {StreamVersion::polar, StreamVersion::ziggurat}) {
+    INFO("stream version " << static_cast<int>(version));
+    std::vector<double> x;
+    x.reserve(1000000);
+    for (std::uint64_t key = 0; key < 1000; ++key) {
+      Rng rng(2024, key, 0, 0, version);
+      for (int i = 0; i < 1000; ++i) x.push_back(rng.normal());
+    }
+    const auto v = scipy_check(x);
+    REQUIRE(v.at("n") == 1e6);
+    CHECK(v.at("ks_p") > 0.001);
+    CHECK(std::fabs(v.at("mean")) < 4 * v.at("mean_se"));
+    CHECK(std::fabs(v.at("variance") - 1.0) < 4 * v.at("variance_se"));
+    CHECK(std::fabs(v.at("skewness")) < 4 * v.at("skewness_se"));
+    CHECK(std::fabs(v.at("kurtosis")) < 4 * v.at("kurtosis_se"));
+    const double expected = v.at("tail_expected");
+    CHECK(std::fabs(v.at("tail") - expected) < 4 * std::sqrt(expected));
+  }
+  // And the check can fail: a sample of variance 1.01 is told apart.
+  std::vector<double> wide;
+  Rng rng(5, 5);
+  for (int i = 0; i < 1000000; ++i) wide.push_back(1.005 * rng.normal());
+  const auto v = scipy_check(wide);
+  CHECK(std::fabs(v.at("variance") - 1.0) > 4 * v.at("variance_se"));
+}
+
+TEST_CASE("stream version 1 is Marsaglia's polar method on the stream's uniforms", "[versions]") {
+  // Marsaglia & Bray (SIAM Review 6, 1964): from uniforms u, v in (-1, 1) with s = u^2 + v^2 in
+  // (0, 1), the pair u f, v f with f = sqrt(-2 ln s / s); written here again on a twin stream.
+  Rng polar(9, 4, 2, 1, StreamVersion::polar);
+  Rng twin(9, 4, 2, 1, StreamVersion::polar);
+  for (int pair = 0; pair < 5000; ++pair) {
+    double u, v, s;
+    do {
+      u = 2.0 * twin.uniform() - 1.0;
+      v = 2.0 * twin.uniform() - 1.0;
+      s = u * u + v * v;
+    } while (s >= 1.0 || s == 0.0);
+    const double f = std::sqrt(-2.0 * std::log(s) / s);
+    const double want[2] = {u * f, v * f};
+    const double got[2] = {polar.normal(), polar.normal()};
+    REQUIRE(std::memcmp(got, want, sizeof got) == 0);
+  }
+}
+
+TEST_CASE("bulk normals equal one-by-one draws for both versions", "[versions]") {
+  for (const StreamVersion version : {StreamVersion::polar, StreamVersion::ziggurat}) {
+    Rng one(3, 1, 4, 1, version), bulk(3, 1, 4, 1, version);
+    std::vector<double> a(1001), b(1001);
+    for (double& v : a) v = one.normal();
+    bulk.normals({b.data(), 7});  // uneven pieces: the polar method's spare carries over
+    bulk.normals({b.data() + 7, b.size() - 7});
+    CHECK(std::memcmp(a.data(), b.data(), a.size() * sizeof(double)) == 0);
+    CHECK(one.next() == bulk.next());
+  }
+}
+
+TEST_CASE("the versions share their uniforms and differ in their normals", "[versions]") {
+  Rng polar(1, 2, 3, 4, StreamVersion::polar), ziggurat(1, 2, 3, 4, StreamVersion::ziggurat);
+  for (int i = 0; i < 100; ++i) CHECK(polar.uniform() == ziggurat.uniform());
+  CHECK(polar.normal() != ziggurat.normal());
+  CHECK(Rng(1, 2).version() == kLatestStreamVersion);
+  CHECK(kLatestStreamVersion == StreamVersion::ziggurat);
+}
+
+TEST_CASE("stream version numbers outside those drawn are refused saying why", "[versions]") {
+  CHECK(stream_version(1) == StreamVersion::polar);
+  CHECK(stream_version(2) == StreamVersion::ziggurat);
+  CHECK_THROWS_WITH(stream_version(3), Catch::Contains("version 3, newer than this tessera"));
+  CHECK_THROWS_WITH(stream_version(0), Catch::Contains("unknown"));
 }

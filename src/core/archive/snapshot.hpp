@@ -10,6 +10,7 @@
 #include <string>
 #include <vector>
 
+#include "core/base/rng.hpp"
 #include "core/base/types.hpp"
 
 namespace tessera {
@@ -42,6 +43,9 @@ struct ArchiveSnapshot {
   std::uint64_t seed = 0;
   std::uint64_t evaluations = 0;
   std::string tool_version;
+  // How the run's random streams draw normal deviates (root attribute random_streams; absent in
+  // older files, which used version 1).
+  std::int64_t random_streams = kLatestStreamVersionNumber;
 
   // /space
   std::string space_kind;    // "grid" | "cvt" | "unstructured"

@@ -1,6 +1,9 @@
 #include "core/base/rng.hpp"
 
+#include <array>
 #include <cmath>
+#include <stdexcept>
+#include <string>
 
 namespace tessera {
 namespace {
@@ -12,11 +15,50 @@ std::uint64_t splitmix64(std::uint64_t& x) {
   return z ^ (z >> 31);
 }
 
-std::uint64_t rotl(std::uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
+// The 256-layer ziggurat of the unnormalised density f(x) = exp(-x^2 / 2) (Marsaglia & Tsang,
+// J. Statistical Software 5(8), 2000): every layer has area kArea; layer 0 is the base strip
+// [0, r] plus the tail beyond r, drawn as a rectangle of width kArea / f(r).
+constexpr double kTailStart = 3.6541528853610088;  // r for 256 layers (Marsaglia & Tsang 2000)
+constexpr double kArea = 4.92867323399e-3;         // v for 256 layers (same source)
+
+double density(double x) {
+  return std::exp(-0.5 * x * x);
+}
+
+struct ZigguratTable {
+  std::array<double, 257> x{};  // layer i spans [0, x[i]]; x[i + 1] is its inner edge
+  ZigguratTable() {
+    x[0] = kArea / density(kTailStart);
+    x[1] = kTailStart;
+    for (std::size_t i = 1; i < 255; ++i)
+      x[i + 1] = std::sqrt(-2.0 * std::log(kArea / x[i] + density(x[i])));
+    x[256] = 0.0;
+  }
+};
+
+const ZigguratTable& ziggurat_table() {
+  static const ZigguratTable table;
+  return table;
+}
 
 }  // namespace
 
-Rng::Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b, std::uint64_t key_c) {
+StreamVersion stream_version(std::int64_t number) {
+  if (number > kLatestStreamVersionNumber)
+    throw std::invalid_argument(
+        "its random streams are version " + std::to_string(number) +
+        ", newer than this tessera draws (versions " + std::to_string(kOldestStreamVersionNumber) +
+        " to " + std::to_string(kLatestStreamVersionNumber) +
+        "), so the run would not continue identically; use a newer tessera");
+  if (number < kOldestStreamVersionNumber)
+    throw std::invalid_argument("its random stream version " + std::to_string(number) +
+                                " is unknown (versions start at 1)");
+  return static_cast<StreamVersion>(number);
+}
+
+Rng::Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b, std::uint64_t key_c,
+         StreamVersion version)
+    : zig_x_(ziggurat_table().x.data()), version_(version) {
   // Mix each key word through splitmix64 in turn so nearby keys give unrelated streams.
   std::uint64_t x = seed;
   std::uint64_t h = splitmix64(x);
@@ -28,23 +70,15 @@ Rng::Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b, std::uint
   for (auto& word : s_) word = splitmix64(x);
 }
 
-std::uint64_t Rng::next() {
-  const std::uint64_t result = rotl(s_[1] * 5, 7) * 9;
-  const std::uint64_t t = s_[1] << 17;
-  s_[2] ^= s_[0];
-  s_[3] ^= s_[1];
-  s_[1] ^= s_[2];
-  s_[0] ^= s_[3];
-  s_[2] ^= t;
-  s_[3] = rotl(s_[3], 45);
-  return result;
+void Rng::normals(std::span<double> out) {
+  if (version_ == StreamVersion::ziggurat) {
+    for (double& v : out) v = ziggurat();
+  } else {
+    for (double& v : out) v = polar();
+  }
 }
 
-double Rng::uniform() { return static_cast<double>(next() >> 11) * 0x1.0p-53; }
-
-double Rng::uniform(double lo, double hi) { return lo + (hi - lo) * uniform(); }
-
-double Rng::normal() {
+double Rng::polar() {
   // Marsaglia's polar method (Marsaglia & Bray 1964): two independent deviates per accepted
   // pair of uniforms, with no trigonometric calls; the second is kept for the next call.
   if (has_spare_) {
@@ -61,6 +95,31 @@ double Rng::normal() {
   spare_ = v * factor;
   has_spare_ = true;
   return u * factor;
+}
+
+double Rng::ziggurat_edge(unsigned layer, double z, bool negative) {
+  // Rare paths (about 1% of draws): the tail beyond r, or the wedge of a layer outside its
+  // inner rectangle; a rejected wedge point starts a fresh draw.
+  for (;;) {
+    if (layer == 0) {
+      // Marsaglia's tail method (Marsaglia 1964): exponential proposals beyond r. 1 - uniform()
+      // lies in (0, 1], keeping the logarithms finite.
+      double a, b;
+      do {
+        a = -std::log(1.0 - uniform()) / kTailStart;
+        b = -std::log(1.0 - uniform());
+      } while (b + b < a * a);
+      return negative ? -(kTailStart + a) : kTailStart + a;
+    }
+    const double outer = density(zig_x_[layer]);
+    const double inner = density(zig_x_[layer + 1]);
+    if (outer + uniform() * (inner - outer) < density(z)) return negative ? -z : z;
+    const std::uint64_t bits = next();
+    layer = static_cast<unsigned>(bits & 0xFF);
+    negative = (bits & 0x100) != 0;
+    z = static_cast<double>(bits >> 11) * 0x1.0p-53 * zig_x_[layer];
+    if (z < zig_x_[layer + 1]) return negative ? -z : z;
+  }
 }
 
 std::uint64_t Rng::below(std::uint64_t n) {

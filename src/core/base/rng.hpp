@@ -1,27 +1,71 @@
 // Counter-keyed random streams. Every draw of a run comes from a stream keyed by
 // (seed, batch, candidate[, purpose]), so results never depend on thread count or on where a run
 // was interrupted. Generator: xoshiro256** seeded through splitmix64 (Blackman & Vigna 2018).
-// Normal deviates use Marsaglia's polar method written here, because std::normal_distribution is
-// implementation-defined and would break bit-identical archives across standard libraries.
+// Normal deviates are written here, because std::normal_distribution is implementation-defined
+// and would break bit-identical archives across standard libraries. Two stream versions exist;
+// they share every uniform draw and differ only in how normal deviates are made:
+//   1: Marsaglia's polar method (pairs, one logarithm per pair);
+//   2: a 256-layer ziggurat (Marsaglia & Tsang 2000), one 64-bit draw per deviate almost always.
+// An archive records the version its run used, so that it resumes with its own generator.
+// The hot paths (next, uniform) are defined in this header so that callers inline them.
 #pragma once
 
 #include <cstdint>
+#include <span>
 
 namespace tessera {
 
+enum class StreamVersion : std::uint32_t { polar = 1, ziggurat = 2 };
+inline constexpr StreamVersion kLatestStreamVersion = StreamVersion::ziggurat;
+inline constexpr std::int64_t kOldestStreamVersionNumber = 1;
+inline constexpr std::int64_t kLatestStreamVersionNumber = 2;
+
+// The version numbered `number` (as an archive records it); throws std::invalid_argument, saying
+// why, for a number this build does not draw.
+StreamVersion stream_version(std::int64_t number);
+
 class Rng {
  public:
-  Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b = 0, std::uint64_t key_c = 0);
+  Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b = 0, std::uint64_t key_c = 0,
+      StreamVersion version = kLatestStreamVersion);
 
-  std::uint64_t next();
-  double uniform();                        // [0, 1)
-  double uniform(double lo, double hi);    // [lo, hi)
-  double normal();                         // standard normal (polar method, pairs)
-  std::uint64_t below(std::uint64_t n);    // uniform in [0, n), unbiased; n > 0
+  std::uint64_t next() {
+    const std::uint64_t result = rotl(s_[1] * 5, 7) * 9;
+    const std::uint64_t t = s_[1] << 17;
+    s_[2] ^= s_[0];
+    s_[3] ^= s_[1];
+    s_[1] ^= s_[2];
+    s_[0] ^= s_[3];
+    s_[2] ^= t;
+    s_[3] = rotl(s_[3], 45);
+    return result;
+  }
+  double uniform() { return static_cast<double>(next() >> 11) * 0x1.0p-53; }  // [0, 1)
+  double uniform(double lo, double hi) { return lo + (hi - lo) * uniform(); }  // [lo, hi)
+  // A standard normal deviate by this stream's version.
+  double normal() { return version_ == StreamVersion::ziggurat ? ziggurat() : polar(); }
+  // out.size() deviates, exactly as many normal() calls would give, in order.
+  void normals(std::span<double> out);
+  std::uint64_t below(std::uint64_t n);  // uniform in [0, n), unbiased; n > 0
+  StreamVersion version() const { return version_; }
 
  private:
+  static std::uint64_t rotl(std::uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
+  double polar();
+  double ziggurat() {
+    // The common case inline: a point inside a layer's rectangle, under the curve.
+    const std::uint64_t bits = next();
+    const unsigned layer = static_cast<unsigned>(bits & 0xFF);
+    const double z = static_cast<double>(bits >> 11) * 0x1.0p-53 * zig_x_[layer];
+    if (z < zig_x_[layer + 1]) return (bits & 0x100) != 0 ? -z : z;
+    return ziggurat_edge(layer, z, (bits & 0x100) != 0);
+  }
+  double ziggurat_edge(unsigned layer, double z, bool negative);
+
   std::uint64_t s_[4];
-  double spare_ = 0.0;     // second value of the last polar-method pair
+  const double* zig_x_;      // the ziggurat's 257 layer edges (shared table)
+  StreamVersion version_;
+  double spare_ = 0.0;       // second value of the last polar-method pair
   bool has_spare_ = false;
 };
 

@@ -63,7 +63,7 @@ void CmaEmitter::start(const EliteArchive& archive, const EmitContext& context) 
   // (Re)start from a uniformly chosen elite (CMA-ME's restart rule), or the centre of the box
   // before any elite exists.
   Rng rng(context.seed, context.batch_index, 0,
-          static_cast<std::uint64_t>(StreamPurpose::selection));
+          static_cast<std::uint64_t>(StreamPurpose::selection), context.streams);
   const Bounds& bounds = *context.genome_bounds;
   std::vector<double> mean(bounds.size(), 0.5);
   if (!archive.empty()) {
@@ -101,7 +101,8 @@ void CmaEmitter::ask(const EliteArchive& archive, const EmitContext& context, Ba
                     [&](const tbb::blocked_range<std::size_t>& range) {
                       for (std::size_t j = range.begin(); j != range.end(); ++j) {
                         Rng rng(context.seed, context.batch_index, j,
-                                static_cast<std::uint64_t>(StreamPurpose::variation));
+                                static_cast<std::uint64_t>(StreamPurpose::variation),
+                                context.streams);
                         std::span<double> x(samples_.data() + j * n, n);
                         for (int draw = 0; draw < kRedraws; ++draw) {
                           es_.sample(rng, x);

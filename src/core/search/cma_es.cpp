@@ -118,7 +118,7 @@ void CmaEs::reset(std::span<const double> mean) {
 void CmaEs::sample(Rng& rng, std::span<double> x) const {
   const auto n = mean_.size();
   Eigen::VectorXd z(n);
-  for (Index i = 0; i < n; ++i) z[i] = rng.normal();
+  rng.normals({z.data(), static_cast<std::size_t>(n)});
   const Eigen::VectorXd y = B_ * D_.cwiseProduct(z);
   for (Index i = 0; i < n; ++i) x[static_cast<std::size_t>(i)] = mean_[i] + sigma_ * y[i];
 }

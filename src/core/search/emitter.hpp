@@ -25,6 +25,7 @@ struct EmitContext {
   std::uint64_t initial = 0;           // candidates with a global index below this are random
   const Bounds* genome_bounds = nullptr;
   const StartGenomes* start = nullptr;  // initial candidates from these instead of uniform
+  StreamVersion streams = kLatestStreamVersion;  // how normal deviates are drawn
 };
 
 class Emitter {

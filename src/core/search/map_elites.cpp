@@ -41,6 +41,7 @@ void MapElitesSearch::step() {
     context.initial = settings_.effective_initial();
     context.genome_bounds = &genome_bounds_;
     context.start = settings_.start.get();
+    context.streams = settings_.streams;
     emitter_->ask(archive_, context, batch_);
     results_.assign(batch_.count, InsertResult{});
   }
@@ -149,6 +150,7 @@ void MapElitesSearch::save(ArchiveSnapshot& out) const {
   save_elites(archive_, out);
   out.genome_bounds = genome_bounds_;
   out.seed = settings_.seed;
+  out.random_streams = static_cast<std::int64_t>(settings_.streams);
   out.evaluations = counters_.evaluations;
   out.history = history_;
   out.fitness_floor = qd_offset_;
@@ -175,6 +177,7 @@ void MapElitesSearch::restore(const ArchiveSnapshot& in) {
   if (!archive_.empty() || counters_.evaluations != 0)
     throw std::invalid_argument("restore into a search that has already run");
   restore_elites(in, archive_);
+  settings_.streams = stream_version(in.random_streams);
   if (archive_.has_thresholds() && !archive_.empty()) {
     const auto t = in.resume->arrays.find("thresholds");
     if (t == in.resume->arrays.end())

@@ -165,7 +165,7 @@ void PopulationSearch::make_children(std::size_t count) {
           const std::size_t a = tournament(pick);
           const std::size_t b = tournament(pick);
           Rng rng(settings_.seed, next_batch_, j,
-                  static_cast<std::uint64_t>(StreamPurpose::variation));
+                  static_cast<std::uint64_t>(StreamPurpose::variation), settings_.streams);
           const std::span<const double> x{population_.genome.data() + a * g, g};
           if (variation_.op == VariationOperator::gaussian) {
             gaussian_mutation(x, genome_bounds_, variation_.sigma, rng, child);
@@ -300,6 +300,7 @@ void PopulationSearch::save(ArchiveSnapshot& out) const {
   const std::size_t d = archive_.descriptor_size();
   out.genome_bounds = genome_bounds_;
   out.seed = settings_.seed;
+  out.random_streams = static_cast<std::int64_t>(settings_.streams);
   out.evaluations = counters_.evaluations;
   BehaviourRows behaviours;
   const std::size_t n = archive_.size();
@@ -370,6 +371,7 @@ void PopulationSearch::restore(const ArchiveSnapshot& in) {
     throw std::invalid_argument("genome or descriptor size differs from the problem's");
   if (archive_.size() != 0 || counters_.evaluations != 0)
     throw std::invalid_argument("restore into a search that has already run");
+  settings_.streams = stream_version(in.random_streams);
 
   if (in.space_kind == "unstructured") {
     restore_format1(in);

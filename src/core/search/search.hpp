@@ -38,6 +38,8 @@ struct SearchSettings {
   std::uint64_t effective_initial() const { return initial == 0 ? batch : initial; }
   std::optional<double> stop_fitness;  // stop once the max fitness reaches it
   std::shared_ptr<const StartGenomes> start;  // initial genomes from elites; null = uniform
+  // New runs draw with the latest streams; a resumed run keeps the version its archive records.
+  StreamVersion streams = kLatestStreamVersion;
 };
 
 // Initial candidate `index` (its global index): uniform within the bounds, or from `start`.
