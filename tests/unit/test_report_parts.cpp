@@ -1,7 +1,8 @@
 // Building blocks of the report and the selection commands, each against a published rule:
 // the colour map's lightness (CIE L*, CIE 15:2004, from sRGB per IEC 61966-2-1), the PNG file
 // layout (PNG specification, ISO/IEC 15948, with CRC-32 of ISO 3309 written out here), CSV quoting
-// (RFC 4180) and the targets file rules of io/targets_csv.hpp.
+// (RFC 4180), the targets file rules of io/targets_csv.hpp and the printf rules of the figures in
+// tables.
 #include <unistd.h>
 #include <zlib.h>
 #include <catch2/catch.hpp>
@@ -15,6 +16,7 @@
 #include <vector>
 
 #include "core/base/errors.hpp"
+#include "io/number_text.hpp"
 #include "io/table_output.hpp"
 #include "io/targets_csv.hpp"
 #include "report/colormap.hpp"
@@ -204,4 +206,21 @@ TEST_CASE("line charts: shares and counts from 0, other axes say they do not sta
   const std::string across =
       tessera::line_chart_svg("Max fitness", "evaluations", "max fitness", xs, {-1.0, 0.5, 1.0});
   CHECK(across.find("does not start at 0") == std::string::npos);
+}
+
+TEST_CASE("figures and p-values in tables: printf rules, missing values as the caller's marker") {
+  // Expected texts printed by /usr/bin/python3 with C printf semantics: '%.4g' % x for figures;
+  // '%.4f' % p from 0.001 up and '%.2e' % p below for p-values.
+  CHECK(tessera::figure_text(0.123456, "-") == "0.1235");
+  CHECK(tessera::figure_text(12345.6, "-") == "1.235e+04");
+  CHECK(tessera::figure_text(3.0, "-") == "3");
+  CHECK(tessera::figure_text(-0.000123456, "-") == "-0.0001235");
+  CHECK(tessera::p_value_text(0.05, "-") == "0.0500");
+  CHECK(tessera::p_value_text(0.001, "-") == "0.0010");
+  CHECK(tessera::p_value_text(0.000999, "-") == "9.99e-04");
+  CHECK(tessera::p_value_text(1e-12, "-") == "1.00e-12");
+  CHECK(tessera::p_value_text(1.0, "-") == "1.0000");
+  // Missing is never printed as a number: each layer passes its own marker.
+  CHECK(tessera::figure_text(std::nan(""), "missing") == "missing");
+  CHECK(tessera::p_value_text(std::nan(""), "-") == "-");
 }
