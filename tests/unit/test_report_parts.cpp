@@ -16,10 +16,13 @@
 #include <vector>
 
 #include "core/base/errors.hpp"
+#include "core/stats/comparison.hpp"
 #include "io/number_text.hpp"
 #include "io/table_output.hpp"
 #include "io/targets_csv.hpp"
 #include "report/colormap.hpp"
+#include "report/compare_charts.hpp"
+#include "report/compare_report.hpp"
 #include "report/heatmap.hpp"
 #include "report/png_image.hpp"
 #include "report/svg_chart.hpp"
@@ -223,4 +226,71 @@ TEST_CASE("figures and p-values in tables: printf rules, missing values as the c
   // Missing is never printed as a number: each layer passes its own marker.
   CHECK(tessera::figure_text(std::nan(""), "missing") == "missing");
   CHECK(tessera::p_value_text(std::nan(""), "-") == "-");
+}
+
+namespace {
+
+// Attribute `name` of the first SVG element in `element`, as a number.
+double svg_attribute(const std::string& element, const std::string& name) {
+  const auto at = element.find(" " + name + "=\"");
+  REQUIRE(at != std::string::npos);
+  return std::stod(element.substr(at + name.size() + 3));
+}
+
+// Every element of kind `tag` ("line", "text", ...) of an SVG text, whole.
+std::vector<std::string> svg_elements(const std::string& svg, const std::string& tag) {
+  std::vector<std::string> out;
+  for (auto at = svg.find("<" + tag + " "); at != std::string::npos;
+       at = svg.find("<" + tag + " ", at + 1)) {
+    const auto end = tag == "text" ? svg.find("</text>", at) : svg.find('>', at);
+    out.push_back(svg.substr(at, end - at));
+  }
+  return out;
+}
+
+}  // namespace
+
+TEST_CASE("comparison charts: brackets clear the success labels, the budget label fits") {
+  // A text's glyphs reach up to its font size above the baseline (SVG 1.1, 10.9: the em box).
+  tessera::ObservationTable t;
+  for (int i = 0; i < 10; ++i) {
+    const std::string run = "s" + std::to_string(i);
+    t.finals.push_back({"always", run, "success", 1.0, false});
+    t.finals.push_back({"never", run, "success", 0.0, false});
+    t.finals.push_back({"always", run, "readapt.maze.middle", 100.0 * (i + 1), false});
+    t.finals.push_back({"never", run, "readapt.maze.middle", 3000.0, true});
+  }
+  const tessera::ComparisonResult r = tessera::compare_groups(t, {});
+  const tessera::MeasureComparison* success = nullptr;
+  for (const auto& m : r.measures)
+    if (m.measure == "success") success = &m;
+  REQUIRE(success != nullptr);
+  REQUIRE(success->pairs.front().p_holm < 0.05);  // 10/10 against 0/10: a bracket is drawn
+  const std::string svg = tessera::box_plot_chart(*success, 0.05).svg("success");
+  double label_top = 1e9;
+  for (const std::string& text : svg_elements(svg, "text"))
+    if (text.ends_with(">10/10"))
+      label_top = svg_attribute(text, "y") - svg_attribute(text, "font-size");
+  REQUIRE(label_top < 1e9);
+  std::size_t brackets = 0;
+  for (const std::string& line : svg_elements(svg, "line")) {
+    if (line.find("stroke=\"#222222\"") == std::string::npos) continue;  // brackets are in ink
+    ++brackets;
+    CHECK(std::max(svg_attribute(line, "y1"), svg_attribute(line, "y2")) < label_top);
+  }
+  CHECK(brackets == 3);
+
+  const auto families = tessera::goal_families(r);
+  REQUIRE(families.size() == 1);
+  const std::string goals =
+      tessera::goal_chart(families[0].first, families[0].second).svg("readapt.maze");
+  double frame_top = -1, label_top_budget = -1;
+  for (const std::string& rect : svg_elements(goals, "rect"))
+    if (rect.find("fill=\"none\"") != std::string::npos) frame_top = svg_attribute(rect, "y");
+  for (const std::string& text : svg_elements(goals, "text"))
+    if (text.ends_with(">budget (censored)"))
+      label_top_budget = svg_attribute(text, "y") - svg_attribute(text, "font-size");
+  REQUIRE(frame_top > 0);
+  REQUIRE(label_top_budget > 0);
+  CHECK(label_top_budget > frame_top);
 }
