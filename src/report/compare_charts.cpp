@@ -92,7 +92,9 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
   const double bracket_base = m.binary ? 22.0 : 6.0;
   const double bracket_space = 16.0 * static_cast<double>(significant.size()) +
                                (significant.empty() ? 0.0 : bracket_base - 6.0);
-  const double slot = 90.0;
+  // Each group's slot is wide enough for its label at full size with a gap to the next.
+  double slot = 90.0;
+  for (const GroupSummary& g : m.groups) slot = std::max(slot, canvas_text_width(g.group, 12) + 16);
   Axes a{84, 40 + bracket_space, slot * static_cast<double>(std::max<std::size_t>(k, 1)), 240};
   const std::string title = m.measure + (m.binary ? ": share of successes" : "");
   Canvas c(std::max(a.left + a.width + 24, title_width(title)), a.top + a.height + 64);
@@ -115,8 +117,7 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
     const Rgb colour = group_colour(g);
     const double x = centre(g);
     const double half = slot * 0.28;
-    c.text(x, a.top + a.height + 18, s.group, canvas_text_width(s.group, 12) > slot ? 9 : 12,
-           TextAnchor::middle);
+    c.text(x, a.top + a.height + 18, s.group, 12, TextAnchor::middle);
     std::string counts = "n=" + std::to_string(s.n);
     if (s.n_missing > 0) counts += ", " + std::to_string(s.n_missing) + " missing";
     c.text(x, a.top + a.height + 33, counts, 10, TextAnchor::middle, kGrey);

@@ -294,3 +294,28 @@ TEST_CASE("comparison charts: brackets clear the success labels, the budget labe
   REQUIRE(label_top_budget > 0);
   CHECK(label_top_budget > frame_top);
 }
+
+TEST_CASE("box plots: group labels at one size, none running into the next") {
+  tessera::ObservationTable t;
+  const std::vector<std::string> groups = {"novelty",    "novelty-lc", "objective",
+                                           "map-elites", "random",     "matched-random"};
+  for (std::size_t g = 0; g < groups.size(); ++g)
+    for (int i = 0; i < 5; ++i)
+      t.finals.push_back({groups[g], "s" + std::to_string(i), "coverage",
+                          0.1 * static_cast<double>(g) + 0.01 * i, false});
+  const tessera::ComparisonResult r = tessera::compare_groups(t, {});
+  const std::string svg = tessera::box_plot_chart(r.measures.at(0), 0.05).svg("coverage");
+  std::vector<std::pair<double, double>> extents;  // left and right end of each label
+  for (const std::string& text : svg_elements(svg, "text")) {
+    const auto close = text.rfind('>');
+    const std::string label = text.substr(close + 1);
+    if (std::find(groups.begin(), groups.end(), label) == groups.end()) continue;
+    CHECK(svg_attribute(text, "font-size") == 12.0);
+    const double x = svg_attribute(text, "x");
+    const double half = tessera::canvas_text_width(label, 12) / 2;  // centred labels
+    extents.push_back({x - half, x + half});
+  }
+  REQUIRE(extents.size() == groups.size());
+  for (std::size_t i = 1; i < extents.size(); ++i)
+    CHECK(extents[i - 1].second + 8 <= extents[i].first);
+}
