@@ -4,6 +4,7 @@
 // continues interrupted ones from their checkpoints. Under mpirun the runs spread over the ranks.
 #include <unistd.h>
 
+#include <algorithm>
 #include <chrono>
 #include <csignal>
 #include <filesystem>
@@ -42,6 +43,15 @@ void on_wait_stop(int signal) {
   g_wait_stop = signal;
 }
 
+// The lines of a plan in a fixed order: the same runs listed in another order are the same plan.
+std::vector<std::string> sorted_lines(const std::string& text) {
+  std::vector<std::string> lines;
+  std::istringstream in(text);
+  for (std::string line; std::getline(in, line);) lines.push_back(line);
+  std::sort(lines.begin(), lines.end());
+  return lines;
+}
+
 // The folder keeps the plan it was made with; another study's plan is refused, so no run of one
 // study is ever continued as a run of another.
 void check_fingerprint(const fs::path& out, const StudyPlan& plan, const std::string& source) {
@@ -51,7 +61,7 @@ void check_fingerprint(const fs::path& out, const StudyPlan& plan, const std::st
     std::ifstream in(file);
     std::ostringstream text;
     text << in.rdbuf();
-    if (text.str() != plan.fingerprint)
+    if (sorted_lines(text.str()) != sorted_lines(plan.fingerprint))
       throw InputError(source + ": " + out.string() + " holds runs of a different study (its " +
                        "study-plan.txt differs); choose another --out");
     return;

@@ -2,6 +2,7 @@
 
 #include <toml++/toml.h>
 
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
@@ -222,9 +223,16 @@ StudyMeasure parse_measure(const toml::table& t, const std::string& prefix, cons
     if (!places || places->empty())
       checker.fail(t.get("places") ? t.get("places") : &t, prefix + "places",
                    "must be a table: place name = run file of the arena with the goal there");
-    for (const auto& [key, node] : *places) {
-      const std::string place(key.str());
-      if (!valid_label(place)) checker.fail(&node, prefix + "places." + place, "bad place name");
+    // In the order written (a TOML table has no order of its own; the parser's is by name): the
+    // goal places are usually listed from near to far, and the tables and charts keep that.
+    std::vector<std::pair<const toml::node*, std::string>> written;
+    for (const auto& [key, node] : *places) written.emplace_back(&node, std::string(key.str()));
+    std::stable_sort(written.begin(), written.end(), [](const auto& a, const auto& b) {
+      const auto &pa = a.first->source().begin, &pb = b.first->source().begin;
+      return pa.line != pb.line ? pa.line < pb.line : pa.column < pb.column;
+    });
+    for (const auto& [node, place] : written) {
+      if (!valid_label(place)) checker.fail(node, prefix + "places." + place, "bad place name");
       m.place_runs.emplace_back(
           place, run_path(*places, place, prefix + "places." + place, base, checker));
     }
