@@ -106,7 +106,10 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
     double lo = std::numeric_limits<double>::infinity(), hi = -lo;
     for (const GroupSummary& g : m.groups)
       for (double v : g.values) lo = std::min(lo, v), hi = std::max(hi, v);
+    const bool never_negative = lo >= 0;
     widen(lo, hi);
+    // Shares, areas and counts have no negative values to show: the axis stops just below 0.
+    if (never_negative) lo = std::max(lo, -0.05 * hi);
     a.y0 = lo;
     a.y1 = hi;
   }

@@ -319,3 +319,20 @@ TEST_CASE("box plots: group labels at one size, none running into the next") {
   for (std::size_t i = 1; i < extents.size(); ++i)
     CHECK(extents[i - 1].second + 8 <= extents[i].first);
 }
+
+TEST_CASE("box plots: a measure without negative values gets no negative ticks") {
+  // Shares of elites reaching a place are in [0, 1]; all runs at 0 is common (nobody got there).
+  tessera::ObservationTable t;
+  for (const char* g : {"a", "b"})
+    for (int i = 0; i < 5; ++i)
+      t.finals.push_back({g, "s" + std::to_string(i), "probe.maze.reached.goal", 0.0, false});
+  const tessera::ComparisonResult r = tessera::compare_groups(t, {});
+  const std::string svg = tessera::box_plot_chart(r.measures.at(0), 0.05).svg("shares");
+  std::size_t ticks = 0;
+  for (const std::string& text : svg_elements(svg, "text")) {
+    if (text.find("text-anchor=\"end\"") == std::string::npos) continue;  // y tick labels
+    ++ticks;
+    CHECK(text.substr(text.rfind('>') + 1).front() != '-');
+  }
+  CHECK(ticks >= 2);
+}
