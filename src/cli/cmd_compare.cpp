@@ -75,6 +75,19 @@ void register_compare(CLI::App& app) {
   cmd->add_option("--format", o->format, "text (default), json or csv (long format)");
   cmd->add_option("--report", o->report_dir,
                   "also write an HTML report with the plots (SVG and PNG) to this folder");
+  cmd->footer(
+      "Examples:\n"
+      "  tessera compare --group novelty='runs/nov-*/archive.h5' \\\n"
+      "                  --group objective='runs/obj-*/archive.h5' --report runs/cmp\n"
+      "  tessera compare --measures runs/study/measures.csv --measure success --format json\n"
+      "\nReading the output: p is the raw p-value of a pair, p_holm the same corrected by\n"
+      "Holm's method over all pairs of that measure (measures are not corrected against each\n"
+      "other); stars use p_holm: * < 0.05, ** < 0.01, *** < 0.001. A12 is the chance that a\n"
+      "run of a scores higher than a run of b (ties half): 0.5 no effect; from 0.56 (0.44)\n"
+      "small, 0.64 (0.36) medium, 0.71 (0.29) large. 'missing' runs are left out, never taken\n"
+      "as zero; 'censored' runs (goal not reached within the budget) rank at the budget.\n"
+      "Measure names: coverage, qd_score, max_fitness, and those of measures.csv (success,\n"
+      "probe.NAME.FIGURE, readapt.NAME.PLACE, ...).");
   cmd->callback([o] { throw CLI::RuntimeError(run_compare(*o)); });
 }
 

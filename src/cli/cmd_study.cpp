@@ -4,6 +4,7 @@
 // continues interrupted ones from their checkpoints. Under mpirun the runs spread over the ranks.
 #include <unistd.h>
 
+#include <algorithm>
 #include <chrono>
 #include <csignal>
 #include <filesystem>
@@ -42,6 +43,15 @@ void on_wait_stop(int signal) {
   g_wait_stop = signal;
 }
 
+// The lines of a plan in a fixed order: the same runs listed in another order are the same plan.
+std::vector<std::string> sorted_lines(const std::string& text) {
+  std::vector<std::string> lines;
+  std::istringstream in(text);
+  for (std::string line; std::getline(in, line);) lines.push_back(line);
+  std::sort(lines.begin(), lines.end());
+  return lines;
+}
+
 // The folder keeps the plan it was made with; another study's plan is refused, so no run of one
 // study is ever continued as a run of another.
 void check_fingerprint(const fs::path& out, const StudyPlan& plan, const std::string& source) {
@@ -51,7 +61,7 @@ void check_fingerprint(const fs::path& out, const StudyPlan& plan, const std::st
     std::ifstream in(file);
     std::ostringstream text;
     text << in.rdbuf();
-    if (text.str() != plan.fingerprint)
+    if (sorted_lines(text.str()) != sorted_lines(plan.fingerprint))
       throw InputError(source + ": " + out.string() + " holds runs of a different study (its " +
                        "study-plan.txt differs); choose another --out");
     return;
@@ -190,9 +200,10 @@ void register_study(CLI::App& app) {
       "the measures into DIR/measures.csv. Ctrl-C checkpoints the runs in flight; the same\n"
       "command continues them and skips finished ones. Under mpirun the runs spread over the\n"
       "ranks; --only runs one (treatment, replicate) for a scheduler's job array.");
-  cmd->add_option("STUDYFILE", o->study_file, "study file (TOML), e.g. problems/studies/arm.toml")
-      ->required()
-      ->check(CLI::ExistingFile);
+  // No existence check here: the study file loader refuses a missing file in Tessera's one line.
+  cmd->add_option("STUDYFILE", o->study_file,
+                  "study file (TOML), e.g. problems/studies/arm-operators.toml")
+      ->required();
   cmd->add_option("--out,-o", o->out_dir, "output folder (created if missing)")->required();
   cmd->add_option("--jobs,-J", o->jobs, "runs at a time (default: one per core)");
   cmd->add_option("--threads,-j", o->threads,
@@ -203,6 +214,25 @@ void register_study(CLI::App& app) {
       ->check(CLI::NonNegativeNumber);
   cmd->add_flag("--list", o->list, "print the index of every (treatment, replicate) and stop");
   cmd->add_flag("--quiet,-q", o->quiet, "no progress line");
+  cmd->footer(
+      "The study file (keys: README, section Studies):\n"
+      "  [study]        replicates = 10 (seeds 1..10, or a list of seeds), reference = LABEL\n"
+      "  [[treatment]]  label, run = RUNFILE, set = { search.algorithm = \"objective\" },\n"
+      "                 or matched = LABEL for the matched random control of that treatment\n"
+      "  [[measure]]    kind = final | success (threshold) | probe (run, figures, places)\n"
+      "                 | readapt (places, threshold, budget)\n"
+      "\nExamples:\n"
+      "  tessera study problems/studies/arm-operators.toml --out runs/arm-operators\n"
+      "  tessera study problems/studies/arena-novelty.toml --out runs/arena --jobs 2\n"
+      "  tessera compare --measures runs/arena/measures.csv --format json   (the statistics "
+      "again)\n"
+      "\nIt prints, per measure, each treatment's n, median and quartiles and every pair of\n"
+      "treatments: p (two-sided Mann-Whitney U; Fisher's exact test for success), p_holm\n"
+      "(Holm-corrected over the pairs of that measure; stars on p_holm) and A12 (chance that a\n"
+      "run of a beats a run of b: 0.5 none, from 0.56/0.44 small, 0.64/0.36 medium, 0.71/0.29\n"
+      "large). Re-adaptation counts evaluations until the goal; runs that never got there are\n"
+      "'censored' at the budget. Missing runs are counted, never taken as zero. The plots are\n"
+      "in DIR/report/index.html.");
   cmd->callback([o] { throw CLI::RuntimeError(run_study(*o)); });
 }
 

@@ -1,12 +1,12 @@
 #include "cli/compare_output.hpp"
 
 #include <cmath>
-#include <cstdio>
 #include <stdexcept>
 
 #include <nlohmann/json.hpp>
 
 #include "core/base/errors.hpp"
+#include "io/number_text.hpp"
 #include "io/table_output.hpp"
 #include "report/compare_charts.hpp"
 #include "report/compare_report.hpp"
@@ -26,18 +26,15 @@ Json number(double v) {
   return std::isfinite(v) ? Json(v) : Json(nullptr);
 }
 
+// What the text tables show for a missing figure.
+constexpr std::string_view kMissing = "-";
+
 std::string text_number(double v) {
-  if (std::isnan(v)) return "-";
-  char buf[32];
-  std::snprintf(buf, sizeof buf, "%.4g", v);
-  return buf;
+  return figure_text(v, kMissing);
 }
 
 std::string text_p(double v) {
-  if (std::isnan(v)) return "-";
-  char buf[32];
-  std::snprintf(buf, sizeof buf, v < 1e-3 ? "%.2e" : "%.4f", v);
-  return buf;
+  return p_value_text(v, kMissing);
 }
 
 void write_text(std::ostream& out, const ComparisonResult& r) {

@@ -2,6 +2,7 @@
 
 #include <toml++/toml.h>
 
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
@@ -134,13 +135,41 @@ std::vector<std::string> overrides_of(const toml::table& t, const std::string& f
   return out;
 }
 
-// Checks that the run file takes the overrides (the run file's own error names it).
-void check_run(const std::string& run_file, const std::vector<std::string>& overrides,
-               const toml::node* node, const std::string& full, const StudyChecker& checker) {
+// The node of override `assignment` ("a.b.c=value") inside the table `set`, for the line number.
+const toml::node* override_node(const toml::table& set, const std::string& assignment) {
+  const toml::node* node = &set;
+  std::string rest = assignment.substr(0, assignment.find('='));
+  while (node) {
+    const auto* table = node->as_table();
+    if (!table) return nullptr;
+    const auto dot = rest.find('.');
+    node = table->get(rest.substr(0, dot));
+    if (dot == std::string::npos) return node;
+    rest = rest.substr(dot + 1);
+  }
+  return nullptr;
+}
+
+// Checks that the run file takes the overrides. A fault of one override is blamed on its key in
+// `set` (the run file's checker words it as a command-line --set); any other on `run`.
+void check_run(const toml::table& t, const std::string& run_file,
+               const std::vector<std::string>& overrides, const std::string& prefix,
+               const StudyChecker& checker) {
   try {
     (void)load_run_file(run_file, overrides);
   } catch (const InputError& e) {
-    checker.fail(node, full, e.what());
+    const std::string message = e.what();
+    const auto* set = t.get("set") ? t.get("set")->as_table() : nullptr;
+    for (const std::string& o : overrides) {
+      const std::string head = "--set " + o + ": ";
+      if (!set || message.rfind(head, 0) != 0) continue;
+      std::string fault = message.substr(head.size());
+      const std::string tail = " (command-line value for " + run_file + ")";
+      if (fault.ends_with(tail)) fault.resize(fault.size() - tail.size());
+      checker.fail(override_node(*set, o), prefix + "set." + o.substr(0, o.find('=')),
+                   fault + " (in run file " + run_file + ")");
+    }
+    checker.fail(t.get("run"), prefix + "run", message);
   }
 }
 
@@ -176,7 +205,7 @@ StudyMeasure parse_measure(const toml::table& t, const std::string& prefix, cons
     m.name = text_of(t, "name", prefix + "name", checker, true);
     m.run_file = run_path(t, "run", prefix + "run", base, checker);
     m.overrides = overrides_of(t, prefix + "set", checker);
-    check_run(m.run_file, m.overrides, t.get("run"), prefix + "run", checker);
+    check_run(t, m.run_file, m.overrides, prefix, checker);
     m.best = static_cast<std::size_t>(integer_of(t, "best", prefix + "best", 0, 0, checker));
     m.figures = texts_of(t, "figures", prefix + "figures", checker);
     m.places = texts_of(t, "places", prefix + "places", checker);
@@ -194,9 +223,16 @@ StudyMeasure parse_measure(const toml::table& t, const std::string& prefix, cons
     if (!places || places->empty())
       checker.fail(t.get("places") ? t.get("places") : &t, prefix + "places",
                    "must be a table: place name = run file of the arena with the goal there");
-    for (const auto& [key, node] : *places) {
-      const std::string place(key.str());
-      if (!valid_label(place)) checker.fail(&node, prefix + "places." + place, "bad place name");
+    // In the order written (a TOML table has no order of its own; the parser's is by name): the
+    // goal places are usually listed from near to far, and the tables and charts keep that.
+    std::vector<std::pair<const toml::node*, std::string>> written;
+    for (const auto& [key, node] : *places) written.emplace_back(&node, std::string(key.str()));
+    std::stable_sort(written.begin(), written.end(), [](const auto& a, const auto& b) {
+      const auto &pa = a.first->source().begin, &pb = b.first->source().begin;
+      return pa.line != pb.line ? pa.line < pb.line : pa.column < pb.column;
+    });
+    for (const auto& [node, place] : written) {
+      if (!valid_label(place)) checker.fail(node, prefix + "places." + place, "bad place name");
       m.place_runs.emplace_back(
           place, run_path(*places, place, prefix + "places." + place, base, checker));
     }
@@ -233,6 +269,14 @@ std::vector<std::string> measure_names(const StudyMeasure& m) {
 }
 
 StudySpec load_study_file(const std::string& path) {
+  // Refused before opening, as run files are: a folder reads as empty text, a pipe blocks.
+  std::error_code ec;
+  const auto status = fs::status(path, ec);
+  if (status.type() == fs::file_type::not_found) throw InputError(path + ": no such study file");
+  if (status.type() == fs::file_type::directory)
+    throw InputError(path + ": is a folder, not a study file");
+  if (!ec && status.type() != fs::file_type::regular)
+    throw InputError(path + ": is not a regular file (a study file is a TOML file)");
   std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError(path + ": cannot open the study file");
   std::ostringstream text;
@@ -296,7 +340,7 @@ StudySpec load_study_file(const std::string& path) {
     tr.run_file = run_path(*t, "run", prefix + "run", base, checker);
     tr.overrides = overrides_of(*t, prefix + "set", checker);
     tr.matched = text_of(*t, "matched", prefix + "matched", checker, false);
-    check_run(tr.run_file, tr.overrides, t->get("run"), prefix + "run", checker);
+    check_run(*t, tr.run_file, tr.overrides, prefix, checker);
     spec.treatments.push_back(std::move(tr));
   }
   for (std::size_t i = 0; i < spec.treatments.size(); ++i) {

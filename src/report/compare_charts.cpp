@@ -87,8 +87,14 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
   std::vector<const PairComparison*> significant;
   for (const PairComparison& p : m.pairs)
     if (!significance_stars(p.p_holm, alpha).empty()) significant.push_back(&p);
-  const double bracket_space = 16.0 * static_cast<double>(significant.size());
-  const double slot = 90.0;
+  // Success bars carry their "k/n" label just above the bar, up to the top of the axes: the
+  // brackets start above it.
+  const double bracket_base = m.binary ? 22.0 : 6.0;
+  const double bracket_space = 16.0 * static_cast<double>(significant.size()) +
+                               (significant.empty() ? 0.0 : bracket_base - 6.0);
+  // Each group's slot is wide enough for its label at full size with a gap to the next.
+  double slot = 90.0;
+  for (const GroupSummary& g : m.groups) slot = std::max(slot, canvas_text_width(g.group, 12) + 16);
   Axes a{84, 40 + bracket_space, slot * static_cast<double>(std::max<std::size_t>(k, 1)), 240};
   const std::string title = m.measure + (m.binary ? ": share of successes" : "");
   Canvas c(std::max(a.left + a.width + 24, title_width(title)), a.top + a.height + 64);
@@ -100,7 +106,10 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
     double lo = std::numeric_limits<double>::infinity(), hi = -lo;
     for (const GroupSummary& g : m.groups)
       for (double v : g.values) lo = std::min(lo, v), hi = std::max(hi, v);
+    const bool never_negative = lo >= 0;
     widen(lo, hi);
+    // Shares, areas and counts have no negative values to show: the axis stops just below 0.
+    if (never_negative) lo = std::max(lo, -0.05 * hi);
     a.y0 = lo;
     a.y1 = hi;
   }
@@ -111,8 +120,7 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
     const Rgb colour = group_colour(g);
     const double x = centre(g);
     const double half = slot * 0.28;
-    c.text(x, a.top + a.height + 18, s.group, canvas_text_width(s.group, 12) > slot ? 9 : 12,
-           TextAnchor::middle);
+    c.text(x, a.top + a.height + 18, s.group, 12, TextAnchor::middle);
     std::string counts = "n=" + std::to_string(s.n);
     if (s.n_missing > 0) counts += ", " + std::to_string(s.n_missing) + " missing";
     c.text(x, a.top + a.height + 33, counts, 10, TextAnchor::middle, kGrey);
@@ -164,7 +172,7 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
       if (m.groups[g].group == p.a) ia = g;
       if (m.groups[g].group == p.b) ib = g;
     }
-    const double y = a.top - 6 - 16.0 * static_cast<double>(level);
+    const double y = a.top - bracket_base - 16.0 * static_cast<double>(level);
     const double xa = centre(ia), xb = centre(ib);
     c.line(xa, y + 5, xa, y, kInk, 1);
     c.line(xa, y, xb, y, kInk, 1);
@@ -266,6 +274,8 @@ Canvas goal_chart(const std::string& family, const std::vector<const MeasureComp
   widen(lo, hi);
   a.y0 = 0;
   a.y1 = hi;
+  // Room above the budget line for its label inside the frame.
+  if (std::isfinite(budget)) a.y1 = std::max(a.y1, budget * 1.1);
   draw_y_axis(c, a, "evaluations");
   if (std::isfinite(budget)) {
     c.line(a.left, a.py(budget), a.left + a.width, a.py(budget), kGrey, 1, true);
@@ -289,7 +299,7 @@ Canvas goal_chart(const std::string& family, const std::vector<const MeasureComp
       if (s.n == 0) continue;  // missing: no point, the line skips it
       const double x = centre(goal) + offset;
       c.line(x, a.py(s.q1), x, a.py(s.q3), colour, 3);
-      // A median at the budget is itself censored: drawn hollow.
+      // Half or more censored: the median is only a lower bound, drawn hollow.
       const bool median_censored = 2 * s.n_censored >= s.n;
       c.circle(x, a.py(s.median), 4, colour, median_censored);
       line.push_back({x, a.py(s.median)});
@@ -298,11 +308,11 @@ Canvas goal_chart(const std::string& family, const std::vector<const MeasureComp
   }
   legend(c, a.left + a.width + 16, a.top + 10, names);
   c.text(a.left, a.top + a.height + 44,
-         "points: median; bars: first to third quartile; hollow: median not reached", 10,
+         "points: median; bars: first to third quartile; censored runs count at the budget;", 10,
          TextAnchor::start, kGrey);
   c.text(a.left, a.top + a.height + 58,
-         "within the budget (censored); censored runs count at the budget", 10, TextAnchor::start,
-         kGrey);
+         "hollow: half or more censored, so the median is only a lower bound", 10,
+         TextAnchor::start, kGrey);
   return c;
 }
 

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <cstdio>
 
+#include "io/number_text.hpp"
 #include "report/compare_charts.hpp"
 #include "report/png_image.hpp"
 #include "report/svg_chart.hpp"
@@ -35,18 +36,13 @@ std::string esc(const std::string& s) {
   return xml_escape(s);
 }
 
+// A missing figure is spelled out in the page; a missing p-value is a dash.
 std::string figure(double v) {
-  if (std::isnan(v)) return "missing";
-  char buf[32];
-  std::snprintf(buf, sizeof buf, "%.4g", v);
-  return buf;
+  return figure_text(v, "missing");
 }
 
 std::string p_text(double v) {
-  if (std::isnan(v)) return "–";
-  char buf[32];
-  std::snprintf(buf, sizeof buf, v < 1e-3 ? "%.2e" : "%.4f", v);
-  return buf;
+  return p_value_text(v, "–");
 }
 
 std::string td(const std::string& s, bool number = false) {

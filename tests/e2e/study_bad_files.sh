@@ -2,7 +2,8 @@
 # ctest-labels: studies
 # A study file with an unknown key, a missing run file, duplicate labels or zero replicates is
 # refused in one line naming the file, the line and the key, exit code 2, and no output folder is
-# created. A run that fails is reported, the other runs go on, and its measures are missing
+# created; so is a missing study file. The help of study and compare names files that exist and
+# says how to read the figures. A run that fails is reported, the other runs go on, and its measures are missing
 # (empty in measures.csv), never zero.
 set -u
 work=$(mktemp -d)
@@ -60,7 +61,8 @@ replicates = []
 label = "a"
 run = "ARM"
 T
-expect_refusal bad-override "search.batchsize=3: unknown key" <<'T'
+expect_refusal bad-override \
+  ":6: key 'treatment[1].set.search.batchsize': unknown key (the keys of [search] are" <<'T'
 [study]
 replicates = 1
 [[treatment]]
@@ -77,6 +79,36 @@ run = "ARM"
 [[measure]]
 kind = "speed"
 T
+
+# A study file that is not there, or is a folder: one line naming it, as run files get.
+for path in "$work/no-such-study.toml" "$work"; do
+  "$TESSERA" study "$path" --out "$work/out-none" >"$work/stdout" 2>"$work/stderr"
+  rc=$?
+  if [ "$rc" -ne 2 ] || [ "$(wc -l < "$work/stderr")" -ne 1 ] \
+     || ! grep -qE -- "^tessera: $path: (no such study file|is a folder, not a study file)$" \
+       "$work/stderr" || [ -e "$work/out-none" ]; then
+    echo "FAIL study file $path: rc=$rc stderr: $(cat "$work/stderr")"; fail=1
+  else
+    echo "ok   study file: $(cat "$work/stderr")"
+  fi
+done
+
+# Help: every shipped file it names exists; it says what p_holm and A12 mean and shows examples.
+"$TESSERA" study --help >"$work/study-help" 2>&1
+"$TESSERA" compare --help >"$work/compare-help" 2>&1
+for named in $(grep -ohE 'problems/[A-Za-z0-9_./-]+\.toml' "$work/study-help" "$work/compare-help"); do
+  if [ ! -f "$TESSERA_SOURCE_DIR/$named" ]; then
+    echo "FAIL help names $named, which is not shipped"; fail=1
+  fi
+done
+for help in study-help compare-help; do
+  for phrase in "Examples:" "p_holm" "A12" "0.71" "censored" "missing"; do
+    if ! grep -qF -- "$phrase" "$work/$help"; then
+      echo "FAIL $help lacks '$phrase'"; fail=1
+    fi
+  done
+done
+echo "ok   help checked"
 
 # A treatment whose problem refuses its options fails at run time: reported, the others go on,
 # its measures are empty (missing) in measures.csv, and the exit code is 1.

@@ -1,7 +1,8 @@
 // Building blocks of the report and the selection commands, each against a published rule:
 // the colour map's lightness (CIE L*, CIE 15:2004, from sRGB per IEC 61966-2-1), the PNG file
 // layout (PNG specification, ISO/IEC 15948, with CRC-32 of ISO 3309 written out here), CSV quoting
-// (RFC 4180) and the targets file rules of io/targets_csv.hpp.
+// (RFC 4180), the targets file rules of io/targets_csv.hpp and the printf rules of the figures in
+// tables.
 #include <unistd.h>
 #include <zlib.h>
 #include <catch2/catch.hpp>
@@ -15,9 +16,13 @@
 #include <vector>
 
 #include "core/base/errors.hpp"
+#include "core/stats/comparison.hpp"
+#include "io/number_text.hpp"
 #include "io/table_output.hpp"
 #include "io/targets_csv.hpp"
 #include "report/colormap.hpp"
+#include "report/compare_charts.hpp"
+#include "report/compare_report.hpp"
 #include "report/heatmap.hpp"
 #include "report/png_image.hpp"
 #include "report/svg_chart.hpp"
@@ -204,4 +209,130 @@ TEST_CASE("line charts: shares and counts from 0, other axes say they do not sta
   const std::string across =
       tessera::line_chart_svg("Max fitness", "evaluations", "max fitness", xs, {-1.0, 0.5, 1.0});
   CHECK(across.find("does not start at 0") == std::string::npos);
+}
+
+TEST_CASE("figures and p-values in tables: printf rules, missing values as the caller's marker") {
+  // Expected texts printed by /usr/bin/python3 with C printf semantics: '%.4g' % x for figures;
+  // '%.4f' % p from 0.001 up and '%.2e' % p below for p-values.
+  CHECK(tessera::figure_text(0.123456, "-") == "0.1235");
+  CHECK(tessera::figure_text(12345.6, "-") == "1.235e+04");
+  CHECK(tessera::figure_text(3.0, "-") == "3");
+  CHECK(tessera::figure_text(-0.000123456, "-") == "-0.0001235");
+  CHECK(tessera::p_value_text(0.05, "-") == "0.0500");
+  CHECK(tessera::p_value_text(0.001, "-") == "0.0010");
+  CHECK(tessera::p_value_text(0.000999, "-") == "9.99e-04");
+  CHECK(tessera::p_value_text(1e-12, "-") == "1.00e-12");
+  CHECK(tessera::p_value_text(1.0, "-") == "1.0000");
+  // Missing is never printed as a number: each layer passes its own marker.
+  CHECK(tessera::figure_text(std::nan(""), "missing") == "missing");
+  CHECK(tessera::p_value_text(std::nan(""), "-") == "-");
+}
+
+namespace {
+
+// Attribute `name` of the first SVG element in `element`, as a number.
+double svg_attribute(const std::string& element, const std::string& name) {
+  const auto at = element.find(" " + name + "=\"");
+  REQUIRE(at != std::string::npos);
+  return std::stod(element.substr(at + name.size() + 3));
+}
+
+// Every element of kind `tag` ("line", "text", ...) of an SVG text, whole.
+std::vector<std::string> svg_elements(const std::string& svg, const std::string& tag) {
+  std::vector<std::string> out;
+  for (auto at = svg.find("<" + tag + " "); at != std::string::npos;
+       at = svg.find("<" + tag + " ", at + 1)) {
+    const auto end = tag == "text" ? svg.find("</text>", at) : svg.find('>', at);
+    out.push_back(svg.substr(at, end - at));
+  }
+  return out;
+}
+
+}  // namespace
+
+TEST_CASE("comparison charts: brackets clear the success labels, the budget label fits") {
+  // A text's glyphs reach up to its font size above the baseline (SVG 1.1, 10.9: the em box).
+  tessera::ObservationTable t;
+  for (int i = 0; i < 10; ++i) {
+    const std::string run = "s" + std::to_string(i);
+    t.finals.push_back({"always", run, "success", 1.0, false});
+    t.finals.push_back({"never", run, "success", 0.0, false});
+    t.finals.push_back({"always", run, "readapt.maze.middle", 100.0 * (i + 1), false});
+    t.finals.push_back({"never", run, "readapt.maze.middle", 3000.0, true});
+  }
+  const tessera::ComparisonResult r = tessera::compare_groups(t, {});
+  const tessera::MeasureComparison* success = nullptr;
+  for (const auto& m : r.measures)
+    if (m.measure == "success") success = &m;
+  REQUIRE(success != nullptr);
+  REQUIRE(success->pairs.front().p_holm < 0.05);  // 10/10 against 0/10: a bracket is drawn
+  const std::string svg = tessera::box_plot_chart(*success, 0.05).svg("success");
+  double label_top = 1e9;
+  for (const std::string& text : svg_elements(svg, "text"))
+    if (text.ends_with(">10/10"))
+      label_top = svg_attribute(text, "y") - svg_attribute(text, "font-size");
+  REQUIRE(label_top < 1e9);
+  std::size_t brackets = 0;
+  for (const std::string& line : svg_elements(svg, "line")) {
+    if (line.find("stroke=\"#222222\"") == std::string::npos) continue;  // brackets are in ink
+    ++brackets;
+    CHECK(std::max(svg_attribute(line, "y1"), svg_attribute(line, "y2")) < label_top);
+  }
+  CHECK(brackets == 3);
+
+  const auto families = tessera::goal_families(r);
+  REQUIRE(families.size() == 1);
+  const std::string goals =
+      tessera::goal_chart(families[0].first, families[0].second).svg("readapt.maze");
+  double frame_top = -1, label_top_budget = -1;
+  for (const std::string& rect : svg_elements(goals, "rect"))
+    if (rect.find("fill=\"none\"") != std::string::npos) frame_top = svg_attribute(rect, "y");
+  for (const std::string& text : svg_elements(goals, "text"))
+    if (text.ends_with(">budget (censored)"))
+      label_top_budget = svg_attribute(text, "y") - svg_attribute(text, "font-size");
+  REQUIRE(frame_top > 0);
+  REQUIRE(label_top_budget > 0);
+  CHECK(label_top_budget > frame_top);
+}
+
+TEST_CASE("box plots: group labels at one size, none running into the next") {
+  tessera::ObservationTable t;
+  const std::vector<std::string> groups = {"novelty",    "novelty-lc", "objective",
+                                           "map-elites", "random",     "matched-random"};
+  for (std::size_t g = 0; g < groups.size(); ++g)
+    for (int i = 0; i < 5; ++i)
+      t.finals.push_back({groups[g], "s" + std::to_string(i), "coverage",
+                          0.1 * static_cast<double>(g) + 0.01 * i, false});
+  const tessera::ComparisonResult r = tessera::compare_groups(t, {});
+  const std::string svg = tessera::box_plot_chart(r.measures.at(0), 0.05).svg("coverage");
+  std::vector<std::pair<double, double>> extents;  // left and right end of each label
+  for (const std::string& text : svg_elements(svg, "text")) {
+    const auto close = text.rfind('>');
+    const std::string label = text.substr(close + 1);
+    if (std::find(groups.begin(), groups.end(), label) == groups.end()) continue;
+    CHECK(svg_attribute(text, "font-size") == 12.0);
+    const double x = svg_attribute(text, "x");
+    const double half = tessera::canvas_text_width(label, 12) / 2;  // centred labels
+    extents.push_back({x - half, x + half});
+  }
+  REQUIRE(extents.size() == groups.size());
+  for (std::size_t i = 1; i < extents.size(); ++i)
+    CHECK(extents[i - 1].second + 8 <= extents[i].first);
+}
+
+TEST_CASE("box plots: a measure without negative values gets no negative ticks") {
+  // Shares of elites reaching a place are in [0, 1]; all runs at 0 is common (nobody got there).
+  tessera::ObservationTable t;
+  for (const char* g : {"a", "b"})
+    for (int i = 0; i < 5; ++i)
+      t.finals.push_back({g, "s" + std::to_string(i), "probe.maze.reached.goal", 0.0, false});
+  const tessera::ComparisonResult r = tessera::compare_groups(t, {});
+  const std::string svg = tessera::box_plot_chart(r.measures.at(0), 0.05).svg("shares");
+  std::size_t ticks = 0;
+  for (const std::string& text : svg_elements(svg, "text")) {
+    if (text.find("text-anchor=\"end\"") == std::string::npos) continue;  // y tick labels
+    ++ticks;
+    CHECK(text.substr(text.rfind('>') + 1).front() != '-');
+  }
+  CHECK(ticks >= 2);
 }
