@@ -29,7 +29,7 @@
 #include <vector>
 
 #include "core/base/errors.hpp"
-#include "eval/genome_digest.hpp"
+#include "eval/worker_answer.hpp"
 
 extern char** environ;
 
@@ -48,22 +48,6 @@ std::string errno_text(int error) {
   return std::strerror(error);
 }
 
-// Worker text (error messages, garbage lines) shown on one line of tessera's stderr.
-std::string one_line(std::string_view text, std::size_t limit = 160) {
-  std::string out;
-  for (char c : text.substr(0, limit)) out += (static_cast<unsigned char>(c) < 0x20) ? ' ' : c;
-  if (text.size() > limit) out += "...";
-  return out;
-}
-
-// A worker line in quotes, for messages (built by appending: GCC 12 warns falsely on "'" + s).
-std::string quoted(std::string_view text) {
-  std::string out(1, '\'');
-  out += one_line(text);
-  out += '\'';
-  return out;
-}
-
 std::string join_command(const std::vector<std::string>& command) {
   std::string out;
   for (const auto& word : command) out += (out.empty() ? "" : " ") + word;
@@ -74,39 +58,6 @@ std::string describe_status(int status) {
   if (WIFEXITED(status)) return "exit status " + std::to_string(WEXITSTATUS(status));
   if (WIFSIGNALED(status)) return "killed by signal " + std::to_string(WTERMSIG(status));
   return "stopped";
-}
-
-// Python's json module writes NaN, Infinity and -Infinity, which are not JSON. Rewrites them
-// (outside strings) to null so that such an answer is reported as "not finite", not garbage.
-bool rewrite_non_finite(std::string_view line, std::string& out) {
-  bool changed = false;
-  bool in_string = false;
-  out.clear();
-  std::size_t i = 0;
-  while (i < line.size()) {
-    const char c = line[i];
-    if (in_string) {
-      out += c;
-      if (c == '\\' && i + 1 < line.size())
-        out += line[++i];
-      else if (c == '"')
-        in_string = false;
-      ++i;
-      continue;
-    }
-    if (c == '"') in_string = true;
-    bool matched = false;
-    for (std::string_view token : {"-Infinity", "Infinity", "NaN"}) {
-      if (line.substr(i, token.size()) == token) {
-        out += "null";
-        i += token.size();
-        changed = matched = true;
-        break;
-      }
-    }
-    if (!matched) out += line[i++];
-  }
-  return changed;
 }
 
 struct Job {
@@ -541,28 +492,18 @@ class WorkerPool {
     fail(r, reason, quoted(line));
   }
 
-  void on_line(Worker& worker, std::string_view line) {
-    if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
-    if (line.find_first_not_of(" \t") == std::string_view::npos) return;
-    auto answer = nlohmann::json::parse(line, nullptr, false);
-    bool non_finite_token = false;
-    if (answer.is_discarded()) {
-      std::string rewritten;
-      if (rewrite_non_finite(line, rewritten)) {
-        answer = nlohmann::json::parse(rewritten, nullptr, false);
-        non_finite_token = !answer.is_discarded();
-      }
-    }
-    if (!answer.is_object() || !answer.contains("id") || !answer["id"].is_number_integer()) {
-      charge_oldest(worker, "malformed answer", line);
+  void on_line(Worker& worker, std::string_view text) {
+    WorkerLine line = read_worker_line(text);
+    if (line.kind == WorkerLine::Kind::blank) return;
+    if (line.kind == WorkerLine::Kind::malformed) {
+      charge_oldest(worker, "malformed answer", line.text);
       return;
     }
-    const auto id = answer["id"].get<std::int64_t>();
     auto it = std::find_if(worker.held.begin(), worker.held.end(), [&](const Request* r) {
-      return static_cast<std::int64_t>(r->id) == id;
+      return static_cast<std::int64_t>(r->id) == line.id;
     });
     if (it == worker.held.end()) {
-      charge_oldest(worker, "unknown id", line);
+      charge_oldest(worker, "unknown id", line.text);
       return;
     }
     Request* r = *it;
@@ -572,58 +513,16 @@ class WorkerPool {
     answered_ = true;
 
     if (r->reply != nullptr) {
-      *r->reply = std::move(answer);
+      *r->reply = std::move(line.object);
       *r->valid = 1;
       complete(r);
       return;
     }
-    // Optional: the digest of the genome the worker evaluated; a mismatch means the answer
-    // belongs to another request (ids swapped) and is not used.
-    if (const auto digest = answer.find("digest"); digest != answer.end()) {
-      if (!digest->is_string() ||
-          digest->get<std::string>() != genome_digest(r->genome, genome_size_)) {
-        fail(r, "wrong genome digest", quoted(line));
-        return;
-      }
-    }
-    if (answer.contains("error")) {
-      const auto& text = answer["error"];
-      fail(r, "worker error", one_line(text.is_string() ? text.get<std::string>() : text.dump()));
+    if (const auto fault = read_evaluation(line, r->genome, genome_size_, descriptor_size_,
+                                           *r->fitness, r->descriptor)) {
+      fail(r, fault->reason, fault->detail);
       return;
     }
-    const std::string shown = quoted(line);
-    const auto fitness = answer.find("fitness");
-    const auto descriptor = answer.find("descriptor");
-    if (fitness == answer.end() || descriptor == answer.end() || !descriptor->is_array()) {
-      fail(r, "malformed answer", shown);
-      return;
-    }
-    if (descriptor->size() != descriptor_size_) {
-      fail(r, "wrong descriptor length",
-           std::to_string(descriptor->size()) + " numbers instead of " +
-               std::to_string(descriptor_size_));
-      return;
-    }
-    // null stands for a NaN or infinity the worker wrote in Python's non-JSON spelling.
-    auto number = [&](const nlohmann::json& value, double& out) -> const char* {
-      if (value.is_number()) {
-        out = value.get<double>();
-        return std::isfinite(out) ? nullptr : "not finite";
-      }
-      return (value.is_null() && non_finite_token) ? "not finite" : "malformed answer";
-    };
-    double fitness_value = 0.0;
-    if (const char* fault = number(*fitness, fitness_value)) {
-      fail(r, fault, shown);
-      return;
-    }
-    for (std::size_t j = 0; j < descriptor_size_; ++j) {
-      if (const char* fault = number((*descriptor)[j], r->descriptor[j])) {
-        fail(r, fault, shown);
-        return;
-      }
-    }
-    *r->fitness = fitness_value;
     *r->valid = 1;
     complete(r);
   }

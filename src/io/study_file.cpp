@@ -15,6 +15,9 @@
 namespace tessera {
 namespace {
 
+// Runs one study may ask for per treatment (a count of replicates).
+constexpr std::int64_t kMaxReplicates = 100000;
+
 namespace fs = std::filesystem;
 
 class StudyChecker {
@@ -304,6 +307,11 @@ StudySpec load_study_file(const std::string& path) {
   if (const auto count = replicates->value_exact<std::int64_t>()) {
     if (*count < 1)
       checker.fail(replicates, "study.replicates", "zero replicates: give at least 1");
+    // Checked before the seeds are listed: a count past this is a typo, not a study.
+    if (*count > kMaxReplicates)
+      checker.fail(replicates, "study.replicates",
+                   std::to_string(*count) + " replicates, more than " +
+                       std::to_string(kMaxReplicates) + ": give fewer (or a list of seeds)");
     for (std::int64_t s = 1; s <= *count; ++s) spec.seeds.push_back(static_cast<std::uint64_t>(s));
   } else if (const auto* list = replicates->as_array()) {
     if (list->empty())

@@ -54,6 +54,14 @@ replicates = 0
 label = "a"
 run = "ARM"
 T
+# A count that no machine could run used to be expanded into a list of seeds (bad_alloc).
+expect_refusal absurd-replicates ":2: key 'study.replicates': 1000000000000 replicates" <<'T'
+[study]
+replicates = 1000000000000
+[[treatment]]
+label = "a"
+run = "ARM"
+T
 expect_refusal empty-seed-list ":2: key 'study.replicates': zero replicates" <<'T'
 [study]
 replicates = []
