@@ -22,7 +22,8 @@ EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::si
     : space_(std::move(space)),
       genome_size_(genome_size),
       descriptor_size_(space_->dimensions()),
-      extra_size_(extra_size) {
+      extra_size_(extra_size),
+      grid_(dynamic_cast<const GridSpace*>(space_.get())) {
   if (space_->cell_count() > kMaxCells)
     throw std::invalid_argument("archive: more than 2^28 cells");
   slot_of_cell_.assign(static_cast<std::size_t>(space_->cell_count()), -1);
@@ -31,16 +32,32 @@ EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::si
 InsertResult EliteArchive::insert(std::span<const double> genome, double fitness,
                                   std::span<const double> descriptor, std::uint64_t birth,
                                   bool valid, std::span<const double> extras) {
-  check_extras(extras);
-  InsertResult result;
+  return insert_placed(place(genome, fitness, descriptor, valid), genome, fitness, descriptor,
+                       birth, extras);
+}
+
+Placement EliteArchive::place(std::span<const double> genome, double fitness,
+                              std::span<const double> descriptor, bool valid) const {
+  Placement out;
   bool finite = valid && std::isfinite(fitness);
   for (double d : descriptor) finite = finite && std::isfinite(d);
   for (double g : genome) finite = finite && std::isfinite(g);
-  if (!finite) {
+  if (!finite) return out;
+  const CellLookup lookup = grid_ ? grid_->cell_of(descriptor) : space_->cell_of(descriptor);
+  out.cell = lookup.cell;
+  out.clamped = lookup.clamped;
+  return out;
+}
+
+InsertResult EliteArchive::insert_placed(const Placement& lookup, std::span<const double> genome,
+                                         double fitness, std::span<const double> descriptor,
+                                         std::uint64_t birth, std::span<const double> extras) {
+  check_extras(extras);
+  InsertResult result;
+  if (lookup.cell < 0) {
     result.outcome = Insertion::invalid;
     return result;
   }
-  const CellLookup lookup = space_->cell_of(descriptor);
   result.cell = lookup.cell;
   result.clamped = lookup.clamped;
   const auto slot = slot_of_cell_[static_cast<std::size_t>(lookup.cell)];
