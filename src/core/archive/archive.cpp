@@ -6,6 +6,12 @@
 #include <string>
 
 namespace tessera {
+namespace {
+
+// Largest row storage reserved up front (address space, not memory in use).
+constexpr std::size_t kReserveBytes = std::size_t{256} << 20;
+
+}  // namespace
 
 const char* to_string(Insertion outcome) {
   switch (outcome) {
@@ -27,6 +33,20 @@ EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::si
   if (space_->cell_count() > kMaxCells)
     throw std::invalid_argument("archive: more than 2^28 cells");
   slot_of_cell_.assign(static_cast<std::size_t>(space_->cell_count()), -1);
+  // Room for an elite in every cell, when that is modest: a growing archive then never moves
+  // its rows (each move copies them all into freshly faulted pages, the main cost of filling a
+  // large grid). Only address space is taken; pages are touched as elites arrive.
+  const auto cells = static_cast<std::size_t>(space_->cell_count());
+  const std::size_t row_bytes =
+      sizeof(double) * (genome_size_ + descriptor_size_ + extra_size_ + 2) + sizeof(std::int64_t);
+  if (cells * row_bytes <= kReserveBytes) {
+    cells_.reserve(cells);
+    fitness_.reserve(cells);
+    birth_.reserve(cells);
+    genomes_.reserve(cells * genome_size_);
+    descriptors_.reserve(cells * descriptor_size_);
+    extras_.reserve(cells * extra_size_);
+  }
 }
 
 InsertResult EliteArchive::insert(std::span<const double> genome, double fitness,

@@ -8,6 +8,7 @@
 #include <span>
 #include <vector>
 
+#include "core/archive/row_allocator.hpp"
 #include "core/archive/space.hpp"
 
 namespace tessera {
@@ -68,7 +69,14 @@ class EliteArchive {
   void prefetch_elite(std::int64_t cell) const {
     if (cell < 0) return;
     const std::int32_t slot = slot_of_cell_[static_cast<std::size_t>(cell)];
-    if (slot >= 0) __builtin_prefetch(fitness_.data() + slot);
+    if (slot < 0) return;
+    const auto i = static_cast<std::size_t>(slot);
+    __builtin_prefetch(fitness_.data() + i);
+    // The rows an improvement overwrites (first and last line of the genome row).
+    __builtin_prefetch(birth_.data() + i, 1);
+    __builtin_prefetch(genomes_.data() + i * genome_size_, 1);
+    __builtin_prefetch(genomes_.data() + (i + 1) * genome_size_ - 1, 1);
+    __builtin_prefetch(descriptors_.data() + i * descriptor_size_, 1);
   }
 
   // Puts an elite back exactly as saved (used when reading an archive file). Throws
@@ -124,12 +132,12 @@ class EliteArchive {
   std::size_t descriptor_size_;
   std::size_t extra_size_;
   const GridSpace* grid_;  // the space when it is a grid: its lookup is called directly
-  std::vector<std::int32_t> slot_of_cell_;  // -1 = empty
+  std::vector<std::int32_t, RowAllocator<std::int32_t>> slot_of_cell_;  // -1 = empty
   std::vector<std::int64_t> cells_;
-  std::vector<double> fitness_;
-  std::vector<std::uint64_t> birth_;
-  std::vector<double> genomes_;
-  std::vector<double> descriptors_;
+  std::vector<double, RowAllocator<double>> fitness_;
+  std::vector<std::uint64_t, RowAllocator<std::uint64_t>> birth_;
+  std::vector<double, RowAllocator<double>> genomes_;
+  std::vector<double, RowAllocator<double>> descriptors_;
   std::vector<double> extras_;
 
   void check_extras(std::span<const double> extras) const;  // none or extra_size() values
