@@ -46,9 +46,9 @@ Timing run(const std::shared_ptr<Problem>& problem, std::int64_t side, std::size
   SearchSettings s;
   s.batch = kBatch;
   s.evaluations = kEvaluations;
-  auto space = std::make_shared<GridSpace>(problem->info().descriptor,
-                                           problem->info().descriptor_names,
-                                           std::vector<std::int64_t>{side, side});
+  auto space =
+      std::make_shared<GridSpace>(problem->info().descriptor, problem->info().descriptor_names,
+                                  std::vector<std::int64_t>{side, side});
   MapElitesSearch search(s, space, problem->info().genome, problem->info().fitness_lower,
                          std::make_unique<VariationEmitter>(VariationSettings{}),
                          [evaluator](Batch& b) { evaluator->evaluate(b); });

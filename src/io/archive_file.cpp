@@ -297,8 +297,7 @@ void write_dataset(const ArchiveWriteOptions& options, hid_t parent, const std::
 
 void write_strings(hid_t parent, const std::string& name, const std::vector<std::string>& values) {
   const Handle type = utf8_string_type();
-  const Handle ds =
-      create_dataset(parent, name, type.get(), sizeof(char*), values.size(), 0, true);
+  const Handle ds = create_dataset(parent, name, type.get(), sizeof(char*), values.size(), 0, true);
   std::vector<const char*> pointers;
   for (const auto& v : values) pointers.push_back(v.c_str());
   if (!pointers.empty())
@@ -390,7 +389,8 @@ void write_contents(hid_t file, const ArchiveSnapshot& s, const ArchiveWriteOpti
     for (const auto& [name, value] : s.resume->counters)
       write_scalar_attr<std::uint64_t>(counters.get(), name.c_str(), value);
     const Handle arrays = create_group(resume.get(), "arrays");
-    for (const auto& [name, values] : s.resume->arrays) write_dataset(options, arrays.get(), name, values);
+    for (const auto& [name, values] : s.resume->arrays)
+      write_dataset(options, arrays.get(), name, values);
   }
 }
 
@@ -639,7 +639,8 @@ bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
   // A deflate stream never exceeds zlib's worst case (stored blocks); a stored chunk is exactly
   // its bytes and the checksum. A larger claim is not a chunk this reader knows how to expand,
   // and must not size its buffers.
-  const std::uint64_t largest = (deflated ? max_deflated_bytes(chunk_bytes) : chunk_bytes) + trailer;
+  const std::uint64_t largest =
+      (deflated ? max_deflated_bytes(chunk_bytes) : chunk_bytes) + trailer;
 
   // Stored chunks are read straight into `out` when their bytes and trailer fit there (the
   // trailer lands on the next chunk's first bytes, which that chunk's read then overwrites), so

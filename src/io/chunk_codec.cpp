@@ -37,8 +37,8 @@ std::size_t max_deflated_bytes(std::size_t bytes) {
   return compressBound(static_cast<uLong>(bytes));
 }
 
-void encode_chunk(const unsigned char* data, std::size_t bytes, std::size_t element_size,
-                  int level, std::vector<unsigned char>& out) {
+void encode_chunk(const unsigned char* data, std::size_t bytes, std::size_t element_size, int level,
+                  std::vector<unsigned char>& out) {
   unsigned char* shuffled = shuffle_buffer(bytes);
   shuffle(data, shuffled, bytes, element_size);
   uLongf out_bytes = compressBound(static_cast<uLong>(bytes));

@@ -12,8 +12,8 @@ namespace tessera {
 
 // Shuffles `bytes` bytes of elements of `element_size` bytes, then deflates them at `level` into
 // `out` (resized to the stored length; its capacity is reused from chunk to chunk).
-void encode_chunk(const unsigned char* data, std::size_t bytes, std::size_t element_size,
-                  int level, std::vector<unsigned char>& out);
+void encode_chunk(const unsigned char* data, std::size_t bytes, std::size_t element_size, int level,
+                  std::vector<unsigned char>& out);
 
 // The most bytes a deflated chunk of `bytes` bytes can take (zlib's compressBound).
 std::size_t max_deflated_bytes(std::size_t bytes);

@@ -316,8 +316,6 @@ TEST_CASE("stored and compressed archives read back equal, in tessera and in h5p
   CHECK(std::system(cmd.c_str()) == 0);
 }
 
-
-
 TEST_CASE("chunks compressed by HDF5's own filters read back the same", "[archive_file]") {
   // The writer compresses chunks itself on many threads; the reader expands them itself. Both
   // must agree with libhdf5's shuffle + deflate filters: rewrite /elites/genome through libhdf5

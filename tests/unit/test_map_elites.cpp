@@ -4,6 +4,7 @@
 
 #include <tbb/global_control.h>
 
+#include <unistd.h>
 #include <cstdio>
 #include <cstdlib>
 #include <filesystem>
@@ -12,7 +13,6 @@
 #include <memory>
 #include <sstream>
 #include <string>
-#include <unistd.h>
 
 #include "core/search/map_elites.hpp"
 #include "core/search/variation_emitter.hpp"
@@ -39,9 +39,9 @@ Run make_run(std::size_t threads, std::uint64_t budget, bool nans = false,
   s.seed = seed;
   s.batch = 100;
   s.evaluations = budget;
-  auto space = std::make_shared<GridSpace>(r.problem->info().descriptor,
-                                           r.problem->info().descriptor_names,
-                                           std::vector<std::int64_t>{side, side});
+  auto space =
+      std::make_shared<GridSpace>(r.problem->info().descriptor, r.problem->info().descriptor_names,
+                                  std::vector<std::int64_t>{side, side});
   VariationSettings v;
   v.op = op;
   auto ev = r.evaluator;

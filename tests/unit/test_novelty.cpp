@@ -232,8 +232,7 @@ TEST_CASE("novelty against a growing archive equals scipy cKDTree's k-nearest-ne
     }
     const auto reference = run_reference("knn_novelty.py", input, "15");
     REQUIRE(reference.size() == size + pool_size);
-    const auto got =
-        archive.score_pool(pool, std::vector<double>(pool_size, 0.0), all(pool_size));
+    const auto got = archive.score_pool(pool, std::vector<double>(pool_size, 0.0), all(pool_size));
     for (std::size_t j = 0; j < pool_size; ++j)
       REQUIRE(got.novelty[j] == Approx(reference[size + j]).epsilon(1e-12));
   }

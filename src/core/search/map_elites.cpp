@@ -72,7 +72,8 @@ void MapElitesSearch::step() {
   // (slot, then elite) overlaps those misses.
   const std::size_t end = first + count;
   for (std::size_t j = first; j < end; ++j) {
-    if (j + 2 * kPrefetchAhead < end) archive_.prefetch_slot(placements_[j + 2 * kPrefetchAhead].cell);
+    if (j + 2 * kPrefetchAhead < end)
+      archive_.prefetch_slot(placements_[j + 2 * kPrefetchAhead].cell);
     if (j + kPrefetchAhead < end) archive_.prefetch_elite(placements_[j + kPrefetchAhead].cell);
     results_[j] = offer_candidate(archive_, placements_[j], batch_, j,
                                   counters_.evaluations + (j - first) + 1, qd_offset_, counters_,

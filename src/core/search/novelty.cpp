@@ -226,7 +226,9 @@ GrowingNeighbourIndex& GrowingNeighbourIndex::operator=(const GrowingNeighbourIn
   return *this;
 }
 
-std::size_t GrowingNeighbourIndex::blocks() const { return blocks_->trees.size(); }
+std::size_t GrowingNeighbourIndex::blocks() const {
+  return blocks_->trees.size();
+}
 
 void GrowingNeighbourIndex::update(const double* points, std::size_t count) {
   if (dims_ == 0) throw std::invalid_argument("neighbour index: no dimensions");
