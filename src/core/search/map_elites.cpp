@@ -14,7 +14,7 @@ namespace tessera {
 namespace {
 
 // Candidates between a prefetch and its use: enough to cover a memory access at the serial
-// insertion's pace (measured with bench_grid_scale: 4 to 16 perform alike).
+// insertion's pace (a round figure, not tuned).
 constexpr std::size_t kPrefetchAhead = 8;
 
 }  // namespace
