@@ -79,7 +79,7 @@ class ProgressLine {
 void write_checkpoint(const PreparedRun& run, const std::string& path) {
   const ArchiveSnapshot snapshot = snapshot_of(run);
   const CheckpointWriteGuard writing;
-  write_archive_file(path, snapshot);
+  write_archive_file(path, snapshot, {.compress = run.config.checkpoint.compress});
 }
 
 int drive_run(PreparedRun& run, const DriveOptions& options) {

@@ -40,11 +40,13 @@ std::mutex& hdf5_mutex() {
   return m;
 }
 
-// Chunks of about 512 KiB fit the default 1 MiB chunk cache; shuffle + deflate level 1 squeezes
-// doubles well enough while keeping the writer close to disk speed (see bench_archive_io).
+// Chunks of about 512 KiB fit the default 1 MiB chunk cache. With compression on, shuffle +
+// deflate level 1 squeezes doubles as well as deflate can while keeping the writer fast; off
+// (the default), chunks are stored as they are, which bench_archive_io measured at several times
+// the speed for random doubles that deflate shrinks only to about 87%.
 constexpr std::uint64_t kChunkBytes = 512 * 1024;
 constexpr unsigned kDeflateLevel = 1;
-// Chunks compressed or expanded together on all threads before HDF5 moves them (32 MiB).
+// Chunks prepared together on all threads before HDF5 moves them (32 MiB).
 constexpr std::uint64_t kChunkBatch = 64;
 // Largest chunk the reader expands itself; others (never written by tessera) go through HDF5.
 constexpr std::uint64_t kMaxDirectChunkBytes = std::uint64_t{1} << 28;
@@ -198,10 +200,11 @@ std::uint64_t chunk_rows_for(std::uint64_t rows, std::uint64_t row_bytes) {
   return std::clamp<std::uint64_t>(kChunkBytes / row_bytes, 1, std::max<std::uint64_t>(rows, 1));
 }
 
-// A chunked, compressed dataset of `rows` rows (x `cols` columns when cols > 0). The first
-// dimension is unlimited so that zero rows is a valid, readable dataset.
+// A chunked dataset of `rows` rows (x `cols` columns when cols > 0), through shuffle + deflate
+// when `compress`. The first dimension is unlimited so that zero rows is a valid, readable
+// dataset.
 Handle create_dataset(hid_t parent, const std::string& name, hid_t type, std::size_t element_bytes,
-                      std::uint64_t rows, std::uint64_t cols) {
+                      std::uint64_t rows, std::uint64_t cols, bool compress) {
   const int rank = cols == 0 ? 1 : 2;
   const hsize_t dims[2] = {rows, cols};
   const hsize_t max_dims[2] = {H5S_UNLIMITED, cols};
@@ -209,8 +212,10 @@ Handle create_dataset(hid_t parent, const std::string& name, hid_t type, std::si
   const hsize_t chunk[2] = {chunk_rows_for(rows, row_bytes), cols};
   const Handle props = plist_handle(H5Pcreate(H5P_DATASET_CREATE), "H5Pcreate");
   ok(H5Pset_chunk(props.get(), rank, chunk), "H5Pset_chunk");
-  ok(H5Pset_shuffle(props.get()), "H5Pset_shuffle");
-  ok(H5Pset_deflate(props.get(), kDeflateLevel), "H5Pset_deflate");
+  if (compress) {
+    ok(H5Pset_shuffle(props.get()), "H5Pset_shuffle");
+    ok(H5Pset_deflate(props.get(), kDeflateLevel), "H5Pset_deflate");
+  }
   // Damaged data is refused, not read (variable-length strings cannot carry the checksum).
   if (ok(H5Tis_variable_str(type), "H5Tis_variable_str") == 0)
     ok(H5Pset_fletcher32(props.get()), "H5Pset_fletcher32");
@@ -220,39 +225,48 @@ Handle create_dataset(hid_t parent, const std::string& name, hid_t type, std::si
       "H5Dcreate2");
 }
 
-// The Fletcher-32 filter's trailer: the checksum of the chunk's bytes, little-endian.
-void append_fletcher32(std::vector<unsigned char>& chunk) {
-  const std::uint32_t sum = fletcher32(chunk.data(), chunk.size());
-  for (int shift = 0; shift < 32; shift += 8)
-    chunk.push_back(static_cast<unsigned char>(sum >> shift));
+// The Fletcher-32 filter's trailer: the checksum of the chunk's first `bytes` bytes, little-endian,
+// written at chunk[bytes..bytes+4).
+void put_fletcher32(unsigned char* chunk, std::size_t bytes) {
+  const std::uint32_t sum = fletcher32(chunk, bytes);
+  for (int i = 0; i < 4; ++i) chunk[bytes + i] = static_cast<unsigned char>(sum >> (8 * i));
 }
 
-// Compresses the chunks of `rows` rows on all threads, a batch at a time (bounded memory), and
-// hands the finished chunks to HDF5. The bytes are the same as HDF5's own filters would write.
+// Prepares the chunks of `rows` rows on all threads, a batch at a time into buffers reused from
+// batch to batch (bounded memory, no allocation per chunk), and hands the finished chunks to
+// HDF5. The bytes are the same as HDF5's own filters would write.
 void write_chunks(hid_t ds, const unsigned char* data, std::uint64_t rows, std::uint64_t row_bytes,
-                  std::size_t element_size) {
+                  std::size_t element_size, bool compress) {
   const std::uint64_t chunk_rows = chunk_rows_for(rows, row_bytes);
   const std::uint64_t chunk_bytes = chunk_rows * row_bytes;
   const std::uint64_t chunks = (rows + chunk_rows - 1) / chunk_rows;
   const std::uint64_t batch = kChunkBatch;
   std::vector<std::vector<unsigned char>> encoded(std::min(batch, chunks));
+  std::vector<unsigned char> padded;  // the last, partial chunk
   for (std::uint64_t first = 0; first < chunks; first += batch) {
     const std::uint64_t count = std::min(batch, chunks - first);
     tbb::parallel_for(std::uint64_t{0}, count, [&](std::uint64_t k) {
       const std::uint64_t row = (first + k) * chunk_rows;
       const std::uint64_t have = std::min(chunk_rows, rows - row) * row_bytes;
       const unsigned char* src = data + row * row_bytes;
-      if (have == chunk_bytes) {
-        encoded[k] = encode_chunk(src, chunk_bytes, element_size, kDeflateLevel);
-      } else {
+      if (have != chunk_bytes) {
         // The last chunk is stored whole; HDF5 ignores the part past the end of the data.
-        std::vector<unsigned char> padded(chunk_bytes, 0);
+        padded.assign(chunk_bytes, 0);
         std::memcpy(padded.data(), src, have);
-        encoded[k] = encode_chunk(padded.data(), chunk_bytes, element_size, kDeflateLevel);
+        src = padded.data();
       }
+      std::vector<unsigned char>& out = encoded[k];
+      if (compress) {
+        encode_chunk(src, chunk_bytes, element_size, kDeflateLevel, out);
+      } else {
+        out.resize(chunk_bytes);
+        std::memcpy(out.data(), src, chunk_bytes);
+      }
+      const std::size_t stored = out.size();
+      out.resize(stored + 4);
+      put_fletcher32(out.data(), stored);
     });
     for (std::uint64_t k = 0; k < count; ++k) {
-      append_fletcher32(encoded[k]);
       const hsize_t offset[2] = {(first + k) * chunk_rows, 0};
       ok(H5Dwrite_chunk(ds, H5P_DEFAULT, 0, offset, encoded[k].size(), encoded[k].data()),
          "H5Dwrite_chunk");
@@ -261,16 +275,17 @@ void write_chunks(hid_t ds, const unsigned char* data, std::uint64_t rows, std::
 }
 
 template <class T>
-void write_dataset(hid_t parent, const std::string& name, const std::vector<T>& data,
-                   std::uint64_t cols = 0) {
+void write_dataset(const ArchiveWriteOptions& options, hid_t parent, const std::string& name,
+                   const std::vector<T>& data, std::uint64_t cols = 0) {
   const std::uint64_t rows = cols == 0 ? data.size() : data.size() / cols;
   const std::uint64_t row_bytes = sizeof(T) * std::max<std::uint64_t>(cols, 1);
-  const Handle ds = create_dataset(parent, name, Hdf5Types<T>::file(), sizeof(T), rows, cols);
+  const Handle ds =
+      create_dataset(parent, name, Hdf5Types<T>::file(), sizeof(T), rows, cols, options.compress);
   if (rows == 0) return;
   // Little-endian memory is the file's byte order, so memory bytes can go into chunks as is.
   if (std::endian::native == std::endian::little && rows > chunk_rows_for(rows, row_bytes)) {
     write_chunks(ds.get(), reinterpret_cast<const unsigned char*>(data.data()), rows, row_bytes,
-                 sizeof(T));
+                 sizeof(T), options.compress);
   } else {
     ok(H5Dwrite(ds.get(), Hdf5Types<T>::memory(), H5S_ALL, H5S_ALL, H5P_DEFAULT, data.data()),
        "H5Dwrite");
@@ -279,7 +294,7 @@ void write_dataset(hid_t parent, const std::string& name, const std::vector<T>& 
 
 void write_strings(hid_t parent, const std::string& name, const std::vector<std::string>& values) {
   const Handle type = utf8_string_type();
-  const Handle ds = create_dataset(parent, name, type.get(), sizeof(char*), values.size(), 0);
+  const Handle ds = create_dataset(parent, name, type.get(), sizeof(char*), values.size(), 0, true);
   std::vector<const char*> pointers;
   for (const auto& v : values) pointers.push_back(v.c_str());
   if (!pointers.empty())
@@ -288,10 +303,10 @@ void write_strings(hid_t parent, const std::string& name, const std::vector<std:
 
 // /elites/extras is [N, E] even when the problem gives no extra figures; HDF5 chunks cannot have
 // a zero dimension, so that case is stored contiguous.
-void write_extras(hid_t elites, const std::vector<double>& extras, std::uint64_t rows,
-                  std::uint64_t cols) {
+void write_extras(const ArchiveWriteOptions& options, hid_t elites,
+                  const std::vector<double>& extras, std::uint64_t rows, std::uint64_t cols) {
   if (cols > 0) {
-    write_dataset(elites, "extras", extras, cols);
+    write_dataset(options, elites, "extras", extras, cols);
     return;
   }
   const hsize_t dims[2] = {rows, 0};
@@ -301,7 +316,7 @@ void write_extras(hid_t elites, const std::vector<double>& extras, std::uint64_t
                  "H5Dcreate2");
 }
 
-void write_contents(hid_t file, const ArchiveSnapshot& s) {
+void write_contents(hid_t file, const ArchiveSnapshot& s, const ArchiveWriteOptions& options) {
   write_string_attr(file, "format", "tessera-archive");
   write_scalar_attr<std::int64_t>(file, "format_version", kArchiveFormatVersion);
   write_string_attr(file, "problem", s.problem);
@@ -315,33 +330,33 @@ void write_contents(hid_t file, const ArchiveSnapshot& s) {
   {
     const Handle space = create_group(file, "space");
     write_string_attr(space.get(), "kind", s.space_kind);
-    write_dataset(space.get(), "lower", s.descriptor_bounds.lower);
-    write_dataset(space.get(), "upper", s.descriptor_bounds.upper);
-    if (s.space_kind == "grid") write_dataset(space.get(), "resolution", s.resolution);
-    if (s.space_kind == "cvt") write_dataset(space.get(), "centroids", s.centroids, d);
+    write_dataset(options, space.get(), "lower", s.descriptor_bounds.lower);
+    write_dataset(options, space.get(), "upper", s.descriptor_bounds.upper);
+    if (s.space_kind == "grid") write_dataset(options, space.get(), "resolution", s.resolution);
+    if (s.space_kind == "cvt") write_dataset(options, space.get(), "centroids", s.centroids, d);
     write_strings(space.get(), "names", s.descriptor_names);
   }
   {
     const Handle genome = create_group(file, "genome");
-    write_dataset(genome.get(), "lower", s.genome_bounds.lower);
-    write_dataset(genome.get(), "upper", s.genome_bounds.upper);
+    write_dataset(options, genome.get(), "lower", s.genome_bounds.lower);
+    write_dataset(options, genome.get(), "upper", s.genome_bounds.upper);
   }
   {
     const Handle elites = create_group(file, "elites");
-    write_dataset(elites.get(), "cell", s.cell);
-    write_dataset(elites.get(), "genome", s.genome, s.genome_size());
-    write_dataset(elites.get(), "descriptor", s.descriptor, d);
-    write_dataset(elites.get(), "fitness", s.fitness);
-    write_dataset(elites.get(), "birth", s.birth);
+    write_dataset(options, elites.get(), "cell", s.cell);
+    write_dataset(options, elites.get(), "genome", s.genome, s.genome_size());
+    write_dataset(options, elites.get(), "descriptor", s.descriptor, d);
+    write_dataset(options, elites.get(), "fitness", s.fitness);
+    write_dataset(options, elites.get(), "birth", s.birth);
     write_strings(elites.get(), "extra_names", s.extra_names);
-    write_extras(elites.get(), s.extras, s.elite_count(), s.extra_size());
+    write_extras(options, elites.get(), s.extras, s.elite_count(), s.extra_size());
   }
   if (s.novelty_archive) {
     const Handle behaviours = create_group(file, "novelty_archive");
-    write_dataset(behaviours.get(), "genome", s.novelty_archive->genome, s.genome_size());
-    write_dataset(behaviours.get(), "descriptor", s.novelty_archive->descriptor, d);
-    write_dataset(behaviours.get(), "fitness", s.novelty_archive->fitness);
-    write_dataset(behaviours.get(), "birth", s.novelty_archive->birth);
+    write_dataset(options, behaviours.get(), "genome", s.novelty_archive->genome, s.genome_size());
+    write_dataset(options, behaviours.get(), "descriptor", s.novelty_archive->descriptor, d);
+    write_dataset(options, behaviours.get(), "fitness", s.novelty_archive->fitness);
+    write_dataset(options, behaviours.get(), "birth", s.novelty_archive->birth);
   }
   {
     const Handle history = create_group(file, "history");
@@ -354,10 +369,10 @@ void write_contents(hid_t file, const ArchiveSnapshot& s) {
       qd_score.push_back(row.qd_score);
       max_fitness.push_back(row.max_fitness);
     }
-    write_dataset(history.get(), "evaluations", evaluations);
-    write_dataset(history.get(), "coverage", coverage);
-    write_dataset(history.get(), "qd_score", qd_score);
-    write_dataset(history.get(), "max_fitness", max_fitness);
+    write_dataset(options, history.get(), "evaluations", evaluations);
+    write_dataset(options, history.get(), "coverage", coverage);
+    write_dataset(options, history.get(), "qd_score", qd_score);
+    write_dataset(options, history.get(), "max_fitness", max_fitness);
   }
   if (s.resume) {
     const Handle resume = create_group(file, "resume");
@@ -372,7 +387,8 @@ void write_contents(hid_t file, const ArchiveSnapshot& s) {
     for (const auto& [name, value] : s.resume->counters)
       write_scalar_attr<std::uint64_t>(counters.get(), name.c_str(), value);
     const Handle arrays = create_group(resume.get(), "arrays");
-    for (const auto& [name, values] : s.resume->arrays) write_dataset(arrays.get(), name, values);
+    for (const auto& [name, values] : s.resume->arrays)
+      write_dataset(options, arrays.get(), name, values);
   }
 }
 
@@ -580,19 +596,28 @@ std::vector<T> Reader::values(Dataset& ds) {
 
 bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
                          std::size_t element_size, hid_t memory_type) {
-  // Only the layout tessera writes: whole-row chunks through shuffle then deflate, in the
-  // memory's own byte order. Anything else goes through HDF5's ordinary read.
+  // Only the layouts tessera writes: whole-row chunks through shuffle then deflate (with or
+  // without Fletcher-32), or through Fletcher-32 alone, in the memory's own byte order. Anything
+  // else goes through HDF5's ordinary read.
   if (std::endian::native != std::endian::little) return false;
   const int filters = H5Pget_nfilters(props);
-  if (H5Pget_layout(props) != H5D_CHUNKED || (filters != 2 && filters != 3)) return false;
+  if (H5Pget_layout(props) != H5D_CHUNKED) return false;
   const auto filter = [&](unsigned index) {
     unsigned flags = 0, config = 0, values[8];
     std::size_t count = 8;  // in: room in `values`; out: how many the filter has
     return H5Pget_filter2(props, index, &flags, &count, values, 0, nullptr, &config);
   };
-  if (filter(0) != H5Z_FILTER_SHUFFLE || filter(1) != H5Z_FILTER_DEFLATE) return false;
-  const bool checksum = filters == 3;
-  if (checksum && filter(2) != H5Z_FILTER_FLETCHER32) return false;
+  bool deflated = false, checksum = false;
+  if (filters == 1 && filter(0) == H5Z_FILTER_FLETCHER32) {
+    checksum = true;
+  } else if ((filters == 2 || filters == 3) && filter(0) == H5Z_FILTER_SHUFFLE &&
+             filter(1) == H5Z_FILTER_DEFLATE) {
+    deflated = true;
+    checksum = filters == 3;
+    if (checksum && filter(2) != H5Z_FILTER_FLETCHER32) return false;
+  } else {
+    return false;
+  }
   const Handle type = type_handle(H5Dget_type(ds.handle.get()), "H5Dget_type");
   if (ok(H5Tequal(type.get(), memory_type), "H5Tequal") <= 0) return false;
   const Handle space = space_handle(H5Dget_space(ds.handle.get()), "H5Dget_space");
@@ -607,8 +632,20 @@ bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
     return false;
   const std::uint64_t chunk_bytes = chunk_rows * row_bytes;
   const std::uint64_t chunks = (rows + chunk_rows - 1) / chunk_rows;
+  const std::uint64_t total_bytes = rows * row_bytes;
+  const std::uint64_t trailer = checksum ? 4 : 0;
+  // A deflate stream never exceeds zlib's worst case (stored blocks); a stored chunk is exactly
+  // its bytes and the checksum. A larger claim is not a chunk this reader knows how to expand,
+  // and must not size its buffers.
+  const std::uint64_t largest =
+      (deflated ? max_deflated_bytes(chunk_bytes) : chunk_bytes) + trailer;
 
+  // Stored chunks are read straight into `out` when their bytes and trailer fit there (the
+  // trailer lands on the next chunk's first bytes, which that chunk's read then overwrites), so
+  // only deflated chunks and the last ones pass through a buffer, kept from batch to batch.
   std::vector<std::vector<unsigned char>> stored(std::min(kChunkBatch, chunks));
+  std::vector<std::uint32_t> sums(stored.size());
+  std::vector<char> direct(stored.size());
   for (std::uint64_t first = 0; first < chunks; first += kChunkBatch) {
     const std::uint64_t n = std::min(kChunkBatch, chunks - first);
     for (std::uint64_t k = 0; k < n; ++k) {
@@ -617,37 +654,52 @@ bool Reader::read_chunks(const Dataset& ds, hid_t props, unsigned char* out,
       // A chunk never written (fill values) or stored unusually: let HDF5 read the dataset.
       if (H5Dget_chunk_storage_size(ds.handle.get(), offset, &size) < 0 || size == 0) return false;
       if (size > file_size_) fail(ds.name + " has a chunk larger than the file");
-      // A deflate stream never exceeds zlib's worst case (stored blocks); a larger claim is not
-      // a chunk this reader knows how to expand, and must not size its buffers.
-      if (size > max_deflated_bytes(chunk_bytes) + (checksum ? 4 : 0)) return false;
-      stored[k].resize(size);
+      if (size > largest || (!deflated && size != largest) || size < trailer) return false;
+      const std::uint64_t at = offset[0] * row_bytes;
+      direct[k] = !deflated && at + size <= total_bytes;
+      unsigned char* into = out + at;
+      if (!direct[k]) {
+        stored[k].resize(size);
+        into = stored[k].data();
+      }
       std::uint32_t mask = 0;
-      ok(H5Dread_chunk(ds.handle.get(), H5P_DEFAULT, offset, &mask, stored[k].data()),
-         "H5Dread_chunk");
+      ok(H5Dread_chunk(ds.handle.get(), H5P_DEFAULT, offset, &mask, into), "H5Dread_chunk");
       if (mask != 0) return false;  // a filter was skipped for this chunk
       if (checksum) {
-        if (!fletcher32_matches(stored[k].data(), stored[k].size()))
-          fail("truncated or damaged HDF5 file (a chunk of " + ds.name +
-               " fails its Fletcher-32 checksum)");
-        stored[k].resize(stored[k].size() - 4);
+        const unsigned char* tail = into + size - 4;
+        sums[k] = static_cast<std::uint32_t>(tail[0]) | static_cast<std::uint32_t>(tail[1]) << 8 |
+                  static_cast<std::uint32_t>(tail[2]) << 16 |
+                  static_cast<std::uint32_t>(tail[3]) << 24;
       }
     }
-    std::atomic<bool> damaged{false};
+    std::atomic<bool> damaged{false}, bad_sum{false};
     tbb::parallel_for(std::uint64_t{0}, n, [&](std::uint64_t k) {
       const std::uint64_t row = (first + k) * chunk_rows;
       const std::uint64_t have = std::min(chunk_rows, rows - row) * row_bytes;
       unsigned char* dst = out + row * row_bytes;
-      bool fine;
-      if (have == chunk_bytes) {
-        fine = decode_chunk(stored[k].data(), stored[k].size(), dst, chunk_bytes, element_size);
-      } else {
-        std::vector<unsigned char> whole(chunk_bytes);
-        fine = decode_chunk(stored[k].data(), stored[k].size(), whole.data(), chunk_bytes,
-                            element_size);
-        if (fine) std::memcpy(dst, whole.data(), have);
+      const unsigned char* src = direct[k] ? dst : stored[k].data();
+      const std::size_t size = direct[k] ? chunk_bytes : stored[k].size() - trailer;
+      if (checksum && fletcher32(src, size) != sums[k]) {
+        bad_sum = true;
+        return;
       }
-      if (!fine) damaged = true;
+      if (direct[k]) return;
+      if (!deflated) {
+        std::memcpy(dst, src, have);
+      } else if (have == chunk_bytes) {
+        if (!decode_chunk(src, size, dst, chunk_bytes, element_size)) damaged = true;
+      } else {
+        // The last chunk is stored whole: expand it beside, keep the rows the dataset has.
+        std::vector<unsigned char> whole(chunk_bytes);
+        if (decode_chunk(src, size, whole.data(), chunk_bytes, element_size))
+          std::memcpy(dst, whole.data(), have);
+        else
+          damaged = true;
+      }
     });
+    if (bad_sum)
+      fail("truncated or damaged HDF5 file (a chunk of " + ds.name +
+           " fails its Fletcher-32 checksum)");
     if (damaged)
       fail("truncated or damaged HDF5 file (a chunk of " + ds.name + " does not inflate)");
   }
@@ -1045,7 +1097,8 @@ ArchiveSnapshot Reader::read() {
 
 }  // namespace
 
-void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot) {
+void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot,
+                        const ArchiveWriteOptions& options) {
   namespace fs = std::filesystem;
   if (auto fault = snapshot_fault(snapshot))
     throw std::invalid_argument(path + ": cannot write archive: " + *fault);
@@ -1068,7 +1121,7 @@ void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot
       const Handle fapl = access_properties();
       Handle file(H5Fcreate(temp.c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, fapl.get()), H5Fclose,
                   "H5Fcreate");
-      write_contents(file.get(), snapshot);
+      write_contents(file.get(), snapshot, options);
       ok(H5Fflush(file.get(), H5F_SCOPE_GLOBAL), "H5Fflush");
       file.close("H5Fclose");  // explicit: failing to write the last metadata must throw
     }

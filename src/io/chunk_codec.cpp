@@ -23,33 +23,40 @@ void unshuffle(const unsigned char* in, unsigned char* out, std::size_t bytes, s
   for (std::size_t k = count * size; k < bytes; ++k) out[k] = in[k];
 }
 
+// The shuffled bytes of the chunk this thread is working on. Grown, never shrunk or zero-filled
+// again: every byte is overwritten before it is read.
+unsigned char* shuffle_buffer(std::size_t bytes) {
+  thread_local std::vector<unsigned char> buffer;
+  if (buffer.size() < bytes) buffer.resize(bytes);
+  return buffer.data();
+}
+
 }  // namespace
 
 std::size_t max_deflated_bytes(std::size_t bytes) {
   return compressBound(static_cast<uLong>(bytes));
 }
 
-std::vector<unsigned char> encode_chunk(const unsigned char* data, std::size_t bytes,
-                                        std::size_t element_size, int level) {
-  std::vector<unsigned char> shuffled(bytes);
-  shuffle(data, shuffled.data(), bytes, element_size);
+void encode_chunk(const unsigned char* data, std::size_t bytes, std::size_t element_size, int level,
+                  std::vector<unsigned char>& out) {
+  unsigned char* shuffled = shuffle_buffer(bytes);
+  shuffle(data, shuffled, bytes, element_size);
   uLongf out_bytes = compressBound(static_cast<uLong>(bytes));
-  std::vector<unsigned char> out(out_bytes);
-  if (compress2(out.data(), &out_bytes, shuffled.data(), static_cast<uLong>(bytes), level) != Z_OK)
+  out.resize(out_bytes);
+  if (compress2(out.data(), &out_bytes, shuffled, static_cast<uLong>(bytes), level) != Z_OK)
     throw std::runtime_error("zlib compress2 failed");
   out.resize(out_bytes);
-  return out;
 }
 
 bool decode_chunk(const unsigned char* stored, std::size_t stored_bytes, unsigned char* out,
                   std::size_t bytes, std::size_t element_size) {
-  std::vector<unsigned char> shuffled(bytes);
+  unsigned char* shuffled = shuffle_buffer(bytes);
   uLongf out_bytes = static_cast<uLongf>(bytes);
   // uncompress never writes past out_bytes, whatever the stored bytes claim.
-  if (uncompress(shuffled.data(), &out_bytes, stored, static_cast<uLong>(stored_bytes)) != Z_OK ||
+  if (uncompress(shuffled, &out_bytes, stored, static_cast<uLong>(stored_bytes)) != Z_OK ||
       out_bytes != bytes)
     return false;
-  unshuffle(shuffled.data(), out, bytes, element_size);
+  unshuffle(shuffled, out, bytes, element_size);
   return true;
 }
 

@@ -84,6 +84,7 @@ const std::map<std::string, KeySpec>& schema() {
       {"novelty.lower", {KeyType::number, def_num(0.95), "threshold factor on no entry"}},
       {"checkpoint.every_evaluations", {KeyType::integer, def_int(0), "checkpoint interval"}},
       {"checkpoint.every_seconds", {KeyType::number, def_num(300.0), "checkpoint interval"}},
+      {"checkpoint.compress", {KeyType::boolean, {}, "deflate numeric datasets (default false)"}},
   };
   return keys;
 }
@@ -537,6 +538,7 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
   config.checkpoint.every_seconds = get_num(checkpoint, "every_seconds", 300.0);
   if (!(config.checkpoint.every_seconds >= 0.0))
     checker.fail(checkpoint["every_seconds"].node(), "checkpoint.every_seconds", "must be >= 0");
+  config.checkpoint.compress = checkpoint["compress"].value<bool>().value_or(false);
 
   std::ostringstream resolved;
   resolved << root;

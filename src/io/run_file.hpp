@@ -25,6 +25,7 @@ struct SpaceConfig {
 struct CheckpointConfig {
   std::uint64_t every_evaluations = 0;  // 0 = only by time
   double every_seconds = 300.0;         // 0 = only by evaluations
+  bool compress = false;                // numeric datasets through shuffle + deflate
 };
 
 struct RunConfig {

@@ -93,8 +93,10 @@ def check_archive(path, label):
     for name, (dtype, shape) in types.items():
         ds = elites[name]
         check(ds.dtype == dtype and ds.shape == shape, f"{label}: /elites/{name} {dtype} {shape}")
-        check(ds.chunks is not None and ds.compression == "gzip",
-              f"{label}: /elites/{name} chunked and deflate-compressed")
+        # docs/archive-format.md: numeric datasets are stored with Fletcher-32 alone by default
+        # (checkpoint.compress = true adds shuffle + deflate).
+        check(ds.chunks is not None and ds.fletcher32 and ds.compression is None,
+              f"{label}: /elites/{name} chunked, checksummed and stored uncompressed")
     # Format 2: every elite's extra figures [N, E] and their names [E].
     extra_names = elites["extra_names"]
     check(is_vlen_utf8_string(extra_names.dtype) and extra_names.ndim == 1,

@@ -1,5 +1,5 @@
 // Archives carry checksums so that damage is refused rather than read: Fletcher-32 on every
-// dataset chunk (HDF5's filter, computed by tessera for the chunks it compresses itself) and the
+// dataset chunk (HDF5's filter, computed by tessera for the chunks it writes itself) and the
 // 1.10 file format's metadata checksums (superblock version 2 or later).
 #include <hdf5.h>
 #include <catch2/catch.hpp>
@@ -84,7 +84,7 @@ TEST_CASE("a damaged chunk is refused by its checksum", "[archive]") {
   }
   REQUIRE(size > 16);
   {
-    // Flip one bit inside the compressed data, away from the deflate header and the trailer.
+    // Flip one bit inside the stored data, away from the chunk's Fletcher-32 trailer.
     std::fstream f(path, std::ios::in | std::ios::out | std::ios::binary);
     f.seekg(static_cast<std::streamoff>(address + size / 2));
     char byte = 0;

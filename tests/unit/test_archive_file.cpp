@@ -247,7 +247,8 @@ TEST_CASE("format 1 files written before format 2 are still read", "[archive_fil
   CHECK(novelty.resume->arrays.count("reference_cell") == 1);
 }
 
-TEST_CASE("the datasets have the format 1 types and are chunked and compressed", "[archive_file]") {
+TEST_CASE("the datasets have the format 1 types and are chunked, compressed when asked",
+          "[archive_file]") {
   H5::Exception::dontPrint();
   TempDir dir;
   const std::string path = dir.file("a.h5");
@@ -267,17 +268,54 @@ TEST_CASE("the datasets have the format 1 types and are chunked and compressed",
   CHECK(format.getCset() == H5T_CSET_UTF8);
   CHECK(file.openAttribute("seed").getDataType() == H5::PredType::STD_U64LE);
   CHECK_FALSE(file.nameExists("/space/centroids"));  // grid only has resolution
-  const H5::DSetCreatPropList props = file.openDataSet("/elites/genome").getCreatePlist();
-  CHECK(props.getLayout() == H5D_CHUNKED);
-  bool deflate = false;
-  for (int i = 0; i < props.getNfilters(); ++i) {
-    unsigned flags = 0, config = 0;
-    std::size_t n = 0;
-    char name[32];
-    deflate = deflate || props.getFilter(i, flags, n, nullptr, sizeof name, name, config) ==
-                             H5Z_FILTER_DEFLATE;
-  }
-  CHECK(deflate);
+  // The filter pipelines of docs/archive-format.md: Fletcher-32 alone by default, shuffle +
+  // deflate + Fletcher-32 when compressed; strings always shuffle + deflate.
+  const auto filters = [](const H5::DataSet& ds) {
+    const H5::DSetCreatPropList props = ds.getCreatePlist();
+    CHECK(props.getLayout() == H5D_CHUNKED);
+    std::vector<H5Z_filter_t> ids;
+    for (int i = 0; i < props.getNfilters(); ++i) {
+      unsigned flags = 0, config = 0;
+      std::size_t n = 0;
+      char name[32];
+      ids.push_back(props.getFilter(i, flags, n, nullptr, sizeof name, name, config));
+    }
+    return ids;
+  };
+  const std::vector<H5Z_filter_t> stored = {H5Z_FILTER_FLETCHER32};
+  const std::vector<H5Z_filter_t> packed = {H5Z_FILTER_SHUFFLE, H5Z_FILTER_DEFLATE,
+                                            H5Z_FILTER_FLETCHER32};
+  const std::vector<H5Z_filter_t> text = {H5Z_FILTER_SHUFFLE, H5Z_FILTER_DEFLATE};
+  for (const char* name : {"/elites/genome", "/elites/cell", "/history/qd_score"})
+    CHECK(filters(file.openDataSet(name)) == stored);
+  CHECK(filters(file.openDataSet("/space/names")) == text);
+  const std::string compressed = dir.file("compressed.h5");
+  write_archive_file(compressed, sample_snapshot({}), {.compress = true});
+  H5::H5File packed_file(compressed, H5F_ACC_RDONLY);
+  for (const char* name : {"/elites/genome", "/elites/cell", "/history/qd_score"})
+    CHECK(filters(packed_file.openDataSet(name)) == packed);
+  CHECK(filters(packed_file.openDataSet("/space/names")) == text);
+}
+
+TEST_CASE("stored and compressed archives read back equal, in tessera and in h5py",
+          "[archive_file]") {
+  TempDir dir;
+  SampleOptions o;
+  o.elites = 5000;  // several chunks of /elites/genome, the last one partial
+  o.genome = 40;
+  const ArchiveSnapshot original = sample_snapshot(o);
+  const std::string stored = dir.file("stored.h5"), compressed = dir.file("compressed.h5");
+  write_archive_file(stored, original);
+  write_archive_file(compressed, original, {.compress = true});
+  const ArchiveSnapshot from_stored = read_archive_file(stored);
+  const ArchiveSnapshot from_compressed = read_archive_file(compressed);
+  require_equal(original, from_stored);
+  require_equal(original, from_compressed);
+  // h5py (Debian python3-h5py on libhdf5) undoes each file's filters itself: every dataset and
+  // attribute of the two files must hold the same bytes.
+  const std::string cmd = "/usr/bin/python3 " + std::string(TESSERA_SOURCE_DIR) +
+                          "/tests/reference/h5py_same_contents.py " + stored + " " + compressed;
+  CHECK(std::system(cmd.c_str()) == 0);
 }
 
 TEST_CASE("chunks compressed by HDF5's own filters read back the same", "[archive_file]") {
@@ -310,12 +348,16 @@ TEST_CASE("chunks compressed by HDF5's own filters read back the same", "[archiv
       CHECK(same_bits(read_archive_file(path).genome, original.genome));
     }
   }
-  // And the other way: libhdf5 expands the chunks tessera compressed.
-  write_archive_file(path, original);
-  H5::H5File file(path, H5F_ACC_RDONLY);
-  std::vector<double> genome(original.genome.size());
-  file.openDataSet("/elites/genome").read(genome.data(), H5::PredType::NATIVE_DOUBLE);
-  CHECK(same_bits(genome, original.genome));
+  // And the other way: libhdf5 expands the chunks tessera compressed or stored, checking their
+  // Fletcher-32 trailers on the way.
+  for (const bool compress : {true, false}) {
+    INFO("compress " << compress);
+    write_archive_file(path, original, {.compress = compress});
+    H5::H5File file(path, H5F_ACC_RDONLY);
+    std::vector<double> genome(original.genome.size());
+    file.openDataSet("/elites/genome").read(genome.data(), H5::PredType::NATIVE_DOUBLE);
+    CHECK(same_bits(genome, original.genome));
+  }
 }
 
 TEST_CASE("100,000 elites with 100-parameter genomes round-trip", "[archive_file][large]") {

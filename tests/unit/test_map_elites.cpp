@@ -4,8 +4,15 @@
 
 #include <tbb/global_control.h>
 
+#include <unistd.h>
+#include <cstdio>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
 #include <map>
 #include <memory>
+#include <sstream>
+#include <string>
 
 #include "core/search/map_elites.hpp"
 #include "core/search/variation_emitter.hpp"
@@ -23,7 +30,8 @@ struct Run {
 };
 
 Run make_run(std::size_t threads, std::uint64_t budget, bool nans = false,
-             VariationOperator op = VariationOperator::iso_line_dd, std::uint64_t seed = 3) {
+             VariationOperator op = VariationOperator::iso_line_dd, std::uint64_t seed = 3,
+             std::int64_t side = 20) {
   Run r;
   r.problem = std::make_shared<testing::ArmTestProblem>(6, nans);
   r.evaluator = std::make_shared<ThreadEvaluator>(r.problem, threads);
@@ -31,9 +39,9 @@ Run make_run(std::size_t threads, std::uint64_t budget, bool nans = false,
   s.seed = seed;
   s.batch = 100;
   s.evaluations = budget;
-  auto space = std::make_shared<GridSpace>(r.problem->info().descriptor,
-                                           r.problem->info().descriptor_names,
-                                           std::vector<std::int64_t>{20, 20});
+  auto space =
+      std::make_shared<GridSpace>(r.problem->info().descriptor, r.problem->info().descriptor_names,
+                                  std::vector<std::int64_t>{side, side});
   VariationSettings v;
   v.op = op;
   auto ev = r.evaluator;
@@ -88,6 +96,60 @@ TEST_CASE("elitism: a cell's fitness never decreases and every replacement is be
     CHECK(run.search->counters().evaluations == 5000);
     CHECK(run.search->archive().size() > 100);
   }
+}
+
+TEST_CASE("a 1000 x 1000 grid keeps the best per cell that numpy recomputes from the log") {
+  // Every candidate of the run is logged (birth, validity, fitness, descriptor); numpy then
+  // recomputes each cell's elite (tests/reference/best_per_cell.py) independently of the
+  // archive's parallel placement and prefetching serial insertion.
+  namespace fs = std::filesystem;
+  const fs::path dir = fs::temp_directory_path() / ("tessera-best-" + std::to_string(::getpid()));
+  fs::create_directories(dir);
+  const std::string log_path = (dir / "log.csv").string();
+  auto run = make_run(2, 60000, true, VariationOperator::iso_line_dd, 5, 1000);
+  {
+    std::ofstream log(log_path);
+    char buf[64];
+    std::uint64_t birth = 0;
+    while (!run.search->finished()) {
+      run.search->step();
+      const Batch& b = run.search->last_batch();
+      for (std::size_t j = 0; j < b.count; ++j) {
+        log << ++birth << "," << int(b.valid[j] != 0);
+        for (double v : {b.fitness[j], b.descriptor(j)[0], b.descriptor(j)[1]}) {
+          std::snprintf(buf, sizeof buf, ",%.17g", v);
+          log << buf;
+        }
+        log << "\n";
+      }
+    }
+  }
+  const auto& bounds = run.problem->info().descriptor;
+  std::ostringstream grid;
+  grid.precision(17);
+  grid << bounds.lower[0] << "," << bounds.upper[0] << ",1000;" << bounds.lower[1] << ","
+       << bounds.upper[1] << ",1000";
+  const std::string out = (dir / "best.txt").string();
+  const std::string cmd = "/usr/bin/python3 " + std::string(TESSERA_SOURCE_DIR) +
+                          "/tests/reference/best_per_cell.py " + log_path + " \"" + grid.str() +
+                          "\" > " + out;
+  REQUIRE(std::system(cmd.c_str()) == 0);
+  const auto& a = run.search->archive();
+  std::ifstream in(out);
+  std::size_t cells = 0;
+  for (std::int64_t cell; in >> cell;) {
+    double fitness = 0;
+    std::uint64_t birth = 0;
+    in >> fitness >> birth;
+    const auto i = a.elite_in(cell);
+    REQUIRE(i.has_value());
+    REQUIRE(a.fitness(*i) == fitness);
+    REQUIRE(a.birth(*i) == birth);
+    ++cells;
+  }
+  CHECK(cells == a.size());
+  CHECK(a.size() > 20000);
+  fs::remove_all(dir);
 }
 
 TEST_CASE("every stored elite is the genome's own evaluation, in its own cell") {

@@ -23,12 +23,16 @@ using namespace tessera;
 
 namespace {
 
-// Brute force: sort every other point by (distance, index), keep k.
+// Brute force: sort every other point by (distance, index), keep k. Scores the rows in
+// `queries`, or every row when it is empty.
 NeighbourScores brute_force(const std::vector<double>& points, std::size_t dims,
-                            const std::vector<double>& fitness, std::size_t k) {
+                            const std::vector<double>& fitness, std::size_t k,
+                            std::vector<std::size_t> queries = {}) {
   const std::size_t n = points.size() / dims;
+  if (queries.empty())
+    for (std::size_t q = 0; q < n; ++q) queries.push_back(q);
   NeighbourScores out;
-  for (std::size_t q = 0; q < n; ++q) {
+  for (std::size_t q : queries) {
     std::vector<std::pair<double, std::size_t>> others;
     for (std::size_t i = 0; i < n; ++i) {
       if (i == q) continue;
@@ -147,6 +151,90 @@ TEST_CASE("novelty equals scipy cKDTree's k-nearest-neighbour mean") {
     const auto got = score_neighbours(points, dims, std::vector<double>(n, 0.0), all(n), 15);
     for (std::size_t i = 0; i < n; ++i)
       REQUIRE(got.novelty[i] == Approx(reference[i]).epsilon(1e-12));
+  }
+  fs::remove_all(dir);
+}
+
+TEST_CASE("novelty against a growing archive equals brute force over archive and pool") {
+  // The archive's index grows in blocks (merged like a binary counter) while the pool is scored
+  // beside it: every answer must be the brute-force k nearest (distance, then index) over the
+  // archive rows followed by the pool rows, ties and duplicates included, at every size passed
+  // on the way (block boundaries at multiples of 64 rows).
+  for (std::size_t dims : {2u, 3u}) {
+    const Bounds unit{std::vector<double>(dims, 0.0), std::vector<double>(dims, 1.0)};
+    NoveltyArchive archive(unit, 1, NoveltySettings{});
+    const auto stock = random_points(1600, dims, 5 + dims, true);  // with exact duplicates
+    Rng rng(8, dims);
+    std::vector<double> stock_fitness(1600);
+    for (auto& f : stock_fitness) f = std::floor(rng.uniform() * 4);  // many fitness ties
+    std::size_t added = 0;
+    for (std::size_t size : {0u, 1u, 63u, 64u, 65u, 191u, 256u, 700u, 1023u, 1100u}) {
+      for (; added < size; ++added)
+        archive.add(std::vector<double>{0.0}, {stock.data() + added * dims, dims},
+                    stock_fitness[added], added);
+      for (std::size_t pool_size : {20u, 300u}) {  // below and above the scan limit
+        INFO("dims " << dims << ", archive " << size << ", pool " << pool_size);
+        // The pool: fresh points and copies of archive rows (ties across the two parts).
+        std::vector<double> pool(stock.begin() + 1100 * dims,
+                                 stock.begin() + (1100 + pool_size) * dims);
+        std::vector<double> pool_fitness(stock_fitness.begin() + 1100,
+                                         stock_fitness.begin() + 1100 + pool_size);
+        for (std::size_t j = 0; j < pool_size && j < size; j += 3)
+          std::copy_n(stock.begin() + j * dims, dims, pool.begin() + j * dims);
+        std::vector<double> all_points(stock.begin(), stock.begin() + size * dims);
+        all_points.insert(all_points.end(), pool.begin(), pool.end());
+        std::vector<double> all_fitness(stock_fitness.begin(), stock_fitness.begin() + size);
+        all_fitness.insert(all_fitness.end(), pool_fitness.begin(), pool_fitness.end());
+        std::vector<std::size_t> queries;  // every other pool member
+        for (std::size_t j = 0; j < pool_size; j += 2) queries.push_back(j);
+
+        const auto got = archive.score_pool(pool, pool_fitness, queries);
+        std::vector<std::size_t> rows(queries);
+        for (auto& q : rows) q += size;
+        const auto expected = brute_force(all_points, dims, all_fitness, 15, rows);
+        for (std::size_t j = 0; j < queries.size(); ++j) {
+          REQUIRE(got.novelty[j] == Approx(expected.novelty[j]).epsilon(1e-12));
+          REQUIRE(got.competition[j] == expected.competition[j]);
+        }
+      }
+    }
+  }
+}
+
+TEST_CASE("novelty against a growing archive equals scipy cKDTree's k-nearest-neighbour mean") {
+  namespace fs = std::filesystem;
+  const fs::path dir =
+      fs::temp_directory_path() / ("tessera-novelty-growing-" + std::to_string(::getpid()));
+  fs::create_directories(dir);
+  const std::size_t dims = 2, pool_size = 200;
+  const auto stock = random_points(3000, dims, 41, false);  // distinct, as the script assumes
+  const Bounds unit{std::vector<double>(dims, 0.0), std::vector<double>(dims, 1.0)};
+  NoveltyArchive archive(unit, 1, NoveltySettings{});
+  std::size_t added = 0;
+  for (std::size_t size : {500u, 1300u, 2800u}) {
+    for (; added < size; ++added)
+      archive.add(std::vector<double>{0.0}, {stock.data() + added * dims, dims}, 0.0, added);
+    const std::vector<double> pool(stock.begin() + 2800 * dims,
+                                   stock.begin() + (2800 + pool_size) * dims);
+    const std::string input = (dir / ("points" + std::to_string(size) + ".csv")).string();
+    {
+      std::ofstream out(input);
+      char buf[40];
+      auto row = [&](const double* p) {
+        for (std::size_t j = 0; j < dims; ++j) {
+          std::snprintf(buf, sizeof buf, "%.17g", p[j]);
+          out << (j ? "," : "") << buf;
+        }
+        out << "\n";
+      };
+      for (std::size_t i = 0; i < size; ++i) row(stock.data() + i * dims);
+      for (std::size_t j = 0; j < pool_size; ++j) row(pool.data() + j * dims);
+    }
+    const auto reference = run_reference("knn_novelty.py", input, "15");
+    REQUIRE(reference.size() == size + pool_size);
+    const auto got = archive.score_pool(pool, std::vector<double>(pool_size, 0.0), all(pool_size));
+    for (std::size_t j = 0; j < pool_size; ++j)
+      REQUIRE(got.novelty[j] == Approx(reference[size + j]).epsilon(1e-12));
   }
   fs::remove_all(dir);
 }

@@ -6,6 +6,12 @@
 #include <string>
 
 namespace tessera {
+namespace {
+
+// Largest row storage reserved up front (address space, not memory in use).
+constexpr std::size_t kReserveBytes = std::size_t{256} << 20;
+
+}  // namespace
 
 const char* to_string(Insertion outcome) {
   switch (outcome) {
@@ -22,25 +28,56 @@ EliteArchive::EliteArchive(std::shared_ptr<const DescriptorSpace> space, std::si
     : space_(std::move(space)),
       genome_size_(genome_size),
       descriptor_size_(space_->dimensions()),
-      extra_size_(extra_size) {
+      extra_size_(extra_size),
+      grid_(dynamic_cast<const GridSpace*>(space_.get())) {
   if (space_->cell_count() > kMaxCells)
     throw std::invalid_argument("archive: more than 2^28 cells");
   slot_of_cell_.assign(static_cast<std::size_t>(space_->cell_count()), -1);
+  // Room for an elite in every cell, when that is modest: a growing archive then never moves
+  // its rows (each move copies them all into freshly faulted pages, the main cost of filling a
+  // large grid). Only address space is taken; pages are touched as elites arrive.
+  const auto cells = static_cast<std::size_t>(space_->cell_count());
+  const std::size_t row_bytes =
+      sizeof(double) * (genome_size_ + descriptor_size_ + extra_size_ + 2) + sizeof(std::int64_t);
+  if (cells * row_bytes <= kReserveBytes) {
+    cells_.reserve(cells);
+    fitness_.reserve(cells);
+    birth_.reserve(cells);
+    genomes_.reserve(cells * genome_size_);
+    descriptors_.reserve(cells * descriptor_size_);
+    extras_.reserve(cells * extra_size_);
+  }
 }
 
 InsertResult EliteArchive::insert(std::span<const double> genome, double fitness,
                                   std::span<const double> descriptor, std::uint64_t birth,
                                   bool valid, std::span<const double> extras) {
-  check_extras(extras);
-  InsertResult result;
+  return insert_placed(place(genome, fitness, descriptor, valid), genome, fitness, descriptor,
+                       birth, extras);
+}
+
+Placement EliteArchive::place(std::span<const double> genome, double fitness,
+                              std::span<const double> descriptor, bool valid) const {
+  Placement out;
   bool finite = valid && std::isfinite(fitness);
   for (double d : descriptor) finite = finite && std::isfinite(d);
   for (double g : genome) finite = finite && std::isfinite(g);
-  if (!finite) {
+  if (!finite) return out;
+  const CellLookup lookup = grid_ ? grid_->cell_of(descriptor) : space_->cell_of(descriptor);
+  out.cell = lookup.cell;
+  out.clamped = lookup.clamped;
+  return out;
+}
+
+InsertResult EliteArchive::insert_placed(const Placement& lookup, std::span<const double> genome,
+                                         double fitness, std::span<const double> descriptor,
+                                         std::uint64_t birth, std::span<const double> extras) {
+  check_extras(extras);
+  InsertResult result;
+  if (lookup.cell < 0) {
     result.outcome = Insertion::invalid;
     return result;
   }
-  const CellLookup lookup = space_->cell_of(descriptor);
   result.cell = lookup.cell;
   result.clamped = lookup.clamped;
   const auto slot = slot_of_cell_[static_cast<std::size_t>(lookup.cell)];

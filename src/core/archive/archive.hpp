@@ -8,6 +8,7 @@
 #include <span>
 #include <vector>
 
+#include "core/archive/row_allocator.hpp"
 #include "core/archive/space.hpp"
 
 namespace tessera {
@@ -31,6 +32,13 @@ struct InsertResult {
   bool above_threshold = false;  // with thresholds: fitness exceeded it (the threshold moved)
 };
 
+// Where a candidate would go, worked out before the serial insertion: read-only, so a batch is
+// placed on many threads and the serial part only compares and copies.
+struct Placement {
+  std::int64_t cell = -1;  // -1 when invalid (fitness, descriptor or genome not finite, or failed)
+  bool clamped = false;    // descriptor was outside the bounds (sent to an edge cell)
+};
+
 // Elites are kept in the order their cells were first filled. That order is part of the state
 // (uniform parent selection indexes into it), so it is saved and restored with the archive.
 class EliteArchive {
@@ -45,6 +53,31 @@ class EliteArchive {
   InsertResult insert(std::span<const double> genome, double fitness,
                       std::span<const double> descriptor, std::uint64_t birth, bool valid = true,
                       std::span<const double> extras = {});
+
+  // The same insertion in two steps: place() may run on many threads at once (it reads only the
+  // space); insert_placed() is the serial part and takes place()'s answer for the same candidate.
+  Placement place(std::span<const double> genome, double fitness,
+                  std::span<const double> descriptor, bool valid = true) const;
+  InsertResult insert_placed(const Placement& placement, std::span<const double> genome,
+                             double fitness, std::span<const double> descriptor,
+                             std::uint64_t birth, std::span<const double> extras = {});
+  // Hints for the serial insertion of a large archive, issued a few candidates ahead so that
+  // the memory they touch is on its way: the cell's slot, then (once that is in) its elite.
+  void prefetch_slot(std::int64_t cell) const {
+    if (cell >= 0) __builtin_prefetch(slot_of_cell_.data() + cell);
+  }
+  void prefetch_elite(std::int64_t cell) const {
+    if (cell < 0) return;
+    const std::int32_t slot = slot_of_cell_[static_cast<std::size_t>(cell)];
+    if (slot < 0) return;
+    const auto i = static_cast<std::size_t>(slot);
+    __builtin_prefetch(fitness_.data() + i);
+    // The rows an improvement overwrites (first and last line of the genome row).
+    __builtin_prefetch(birth_.data() + i, 1);
+    __builtin_prefetch(genomes_.data() + i * genome_size_, 1);
+    __builtin_prefetch(genomes_.data() + (i + 1) * genome_size_ - 1, 1);
+    __builtin_prefetch(descriptors_.data() + i * descriptor_size_, 1);
+  }
 
   // Puts an elite back exactly as saved (used when reading an archive file). Throws
   // std::invalid_argument if the cell is out of range or already filled. Empty `extras` are
@@ -98,12 +131,13 @@ class EliteArchive {
   std::size_t genome_size_;
   std::size_t descriptor_size_;
   std::size_t extra_size_;
-  std::vector<std::int32_t> slot_of_cell_;  // -1 = empty
+  const GridSpace* grid_;  // the space when it is a grid: its lookup is called directly
+  std::vector<std::int32_t, RowAllocator<std::int32_t>> slot_of_cell_;  // -1 = empty
   std::vector<std::int64_t> cells_;
-  std::vector<double> fitness_;
-  std::vector<std::uint64_t> birth_;
-  std::vector<double> genomes_;
-  std::vector<double> descriptors_;
+  std::vector<double, RowAllocator<double>> fitness_;
+  std::vector<std::uint64_t, RowAllocator<std::uint64_t>> birth_;
+  std::vector<double, RowAllocator<double>> genomes_;
+  std::vector<double, RowAllocator<double>> descriptors_;
   std::vector<double> extras_;
 
   void check_extras(std::span<const double> extras) const;  // none or extra_size() values

@@ -40,7 +40,7 @@ class Rng {
     s_[3] = rotl(s_[3], 45);
     return result;
   }
-  double uniform() { return static_cast<double>(next() >> 11) * 0x1.0p-53; }  // [0, 1)
+  double uniform() { return static_cast<double>(next() >> 11) * 0x1.0p-53; }   // [0, 1)
   double uniform(double lo, double hi) { return lo + (hi - lo) * uniform(); }  // [lo, hi)
   // A standard normal deviate by this stream's version.
   double normal() { return version_ == StreamVersion::ziggurat ? ziggurat() : polar(); }
@@ -63,14 +63,20 @@ class Rng {
   double ziggurat_edge(unsigned layer, double z, bool negative);
 
   std::uint64_t s_[4];
-  const double* zig_x_;      // the ziggurat's 257 layer edges (shared table)
+  const double* zig_x_;  // the ziggurat's 257 layer edges (shared table)
   StreamVersion version_;
-  double spare_ = 0.0;       // second value of the last polar-method pair
+  double spare_ = 0.0;  // second value of the last polar-method pair
   bool has_spare_ = false;
 };
 
 // Distinct purposes drawing from the same (seed, batch, candidate) key.
-enum class StreamPurpose : std::uint64_t { variation = 1, selection = 2, initial = 3, cvt = 4,
-                                           novelty = 5, adapt = 6 };
+enum class StreamPurpose : std::uint64_t {
+  variation = 1,
+  selection = 2,
+  initial = 3,
+  cvt = 4,
+  novelty = 5,
+  adapt = 6
+};
 
 }  // namespace tessera

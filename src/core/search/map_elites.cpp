@@ -1,5 +1,8 @@
 #include "core/search/map_elites.hpp"
 
+#include <tbb/blocked_range.h>
+#include <tbb/parallel_for.h>
+
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -8,6 +11,13 @@
 #include "core/archive/cvt.hpp"
 
 namespace tessera {
+namespace {
+
+// Candidates between a prefetch and its use: enough to cover a memory access at the serial
+// insertion's pace (a round figure, not tuned).
+constexpr std::size_t kPrefetchAhead = 8;
+
+}  // namespace
 
 MapElitesSearch::MapElitesSearch(SearchSettings settings,
                                  std::shared_ptr<const DescriptorSpace> space, Bounds genome_bounds,
@@ -50,10 +60,26 @@ void MapElitesSearch::step() {
       static_cast<std::size_t>(std::min<std::uint64_t>(batch_.count - first, remaining));
   evaluate_range(first, count);
 
+  // Finiteness and cell lookup read only the space: done for the whole batch on all threads.
+  placements_.resize(batch_.count);
+  tbb::parallel_for(tbb::blocked_range<std::size_t>(first, first + count, 256),
+                    [&](const tbb::blocked_range<std::size_t>& range) {
+                      for (std::size_t j = range.begin(); j != range.end(); ++j)
+                        placements_[j] = archive_.place(batch_.genome(j), batch_.fitness[j],
+                                                        batch_.descriptor(j), batch_.valid[j] != 0);
+                    });
   // Insertion is serial and in candidate order: the archive's evolution is fixed by the seed.
-  for (std::size_t j = first; j < first + count; ++j)
-    results_[j] = offer_candidate(archive_, batch_, j, counters_.evaluations + (j - first) + 1,
-                                  qd_offset_, counters_, qd_score_, max_fitness_);
+  // On a large grid each candidate's cell is a cache miss; asking for it a few candidates ahead
+  // (slot, then elite) overlaps those misses.
+  const std::size_t end = first + count;
+  for (std::size_t j = first; j < end; ++j) {
+    if (j + 2 * kPrefetchAhead < end)
+      archive_.prefetch_slot(placements_[j + 2 * kPrefetchAhead].cell);
+    if (j + kPrefetchAhead < end) archive_.prefetch_elite(placements_[j + kPrefetchAhead].cell);
+    results_[j] = offer_candidate(archive_, placements_[j], batch_, j,
+                                  counters_.evaluations + (j - first) + 1, qd_offset_, counters_,
+                                  qd_score_, max_fitness_);
+  }
   counters_.evaluations += count;
   batch_done_ = first + count == batch_.count ? 0 : first + count;
   if (batch_done_ == 0) {

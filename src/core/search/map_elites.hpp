@@ -52,6 +52,7 @@ class MapElitesSearch final : public SearchAlgorithm {
   std::vector<HistoryRow> history_;
   Batch batch_;
   std::vector<InsertResult> results_;
+  std::vector<Placement> placements_;  // of the batch's candidates, worked out in parallel
 };
 
 // Fills the /space part of a snapshot from a space (grid or cvt).

@@ -7,6 +7,7 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <memory>
 #include <span>
 #include <vector>
 
@@ -44,6 +45,39 @@ NeighbourScores score_neighbours(std::span<const double> points, std::size_t dim
                                  std::span<const double> fitness,
                                  std::span<const std::size_t> queries, std::size_t k);
 
+// The k nearest neighbours among rows that are only ever appended (the novelty archive's scaled
+// descriptors): k-d trees over blocks of doubling sizes, merged like a binary counter (the
+// logarithmic method of Bentley & Saxe, J. Algorithms 1980), so that growing by one point costs
+// amortised O(log n) tree building instead of a rebuild of the whole set for every batch. The
+// answers are exact and canonical (ties by index), so they never depend on how the blocks fell;
+// a copy therefore starts empty and builds its blocks on first use.
+class GrowingNeighbourIndex {
+ public:
+  explicit GrowingNeighbourIndex(std::size_t dims);
+  ~GrowingNeighbourIndex();
+  GrowingNeighbourIndex(const GrowingNeighbourIndex& other);
+  GrowingNeighbourIndex& operator=(const GrowingNeighbourIndex& other);
+
+  // Covers the first `count` rows of `points` (row-major, `dims` values each). The rows may have
+  // moved since the last call (a grown vector), but rows already covered must be unchanged.
+  void update(const double* points, std::size_t count);
+  std::size_t size() const { return count_; }
+  std::size_t blocks() const;  // trees currently kept (for tests)
+
+  // Scores queries against the covered rows followed by `pool` (more rows, with their fitness):
+  // exactly score_neighbours over that concatenation, query j being row size() + queries[j].
+  NeighbourScores score(std::span<const double> fitness, std::span<const double> pool,
+                        std::span<const double> pool_fitness, std::span<const std::size_t> queries,
+                        std::size_t k) const;
+
+  struct Blocks;  // defined in novelty.cpp
+
+ private:
+  std::size_t dims_;
+  std::size_t count_ = 0;
+  std::unique_ptr<Blocks> blocks_;
+};
+
 // The novelty archive: behaviours (with their genome, fitness and birth) admitted by the
 // adaptive threshold. Descriptors are kept as evaluated; distances use them scaled to [0, 1] by
 // the descriptor bounds so one threshold suits any problem.
@@ -74,6 +108,13 @@ class NoveltyArchive {
   // Writes descriptor scaled to [0, 1] per dimension into out.
   void scale(std::span<const double> descriptor, std::span<double> out) const;
 
+  // Novelty and local competition of pool members (scaled descriptors, with their fitness)
+  // against the archive and the whole pool: score_neighbours over the archive's scaled
+  // descriptors followed by the pool, query j being row size() + queries[j]. The archive's part
+  // comes from an index that grows with it.
+  NeighbourScores score_pool(std::span<const double> pool, std::span<const double> pool_fitness,
+                             std::span<const std::size_t> queries);
+
   // Adaptive threshold. A batch of `evaluations` that admitted `entries` behaviours counts
   // towards the current window; when the window is full the threshold adapts and a new window
   // starts (windows end on batch boundaries).
@@ -97,6 +138,7 @@ class NoveltyArchive {
   std::vector<double> scaled_;
   std::vector<double> fitness_;
   std::vector<std::uint64_t> birth_;
+  GrowingNeighbourIndex index_;
 };
 
 }  // namespace tessera

@@ -185,12 +185,9 @@ void PopulationSearch::score(Group& pool) {
   const auto start = std::chrono::steady_clock::now();
   const std::size_t d = archive_.descriptor_size();
   const std::size_t n = pool.size();
-  std::vector<double> points(archive_.size() * d);
-  std::vector<double> fitness(archive_.size());
-  for (std::size_t i = 0; i < archive_.size(); ++i) {
-    std::copy_n(archive_.scaled(i).data(), d, points.begin() + i * d);
-    fitness[i] = archive_.fitness(i);
-  }
+  // The valid members, scaled, scored against the novelty archive (kept in a growing index)
+  // and one another.
+  std::vector<double> points, fitness;
   std::vector<std::size_t> queries, member;
   for (std::size_t i = 0; i < n; ++i) {
     if (pool.valid[i] == 0.0) continue;
@@ -200,8 +197,7 @@ void PopulationSearch::score(Group& pool) {
     archive_.scale({pool.descriptor.data() + i * d, d}, {points.data() + points.size() - d, d});
     fitness.push_back(pool.fitness[i]);
   }
-  const NeighbourScores s =
-      score_neighbours(points, d, fitness, queries, archive_.settings().neighbours);
+  const NeighbourScores s = archive_.score_pool(points, fitness, queries);
   pool.novelty.assign(n, -1.0);
   pool.competition.assign(n, -1.0);
   for (std::size_t j = 0; j < member.size(); ++j) {

@@ -25,8 +25,17 @@ void initial_genome(const StartGenomes* start, const Bounds& bounds, std::uint64
 InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::size_t j,
                              std::uint64_t birth, double qd_offset, SearchCounters& counters,
                              double& qd_score, double& max_fitness) {
-  InsertResult r = archive.insert(batch.genome(j), batch.fitness[j], batch.descriptor(j), birth,
-                                  batch.valid[j] != 0, batch.extra(j));
+  const Placement placement =
+      archive.place(batch.genome(j), batch.fitness[j], batch.descriptor(j), batch.valid[j] != 0);
+  return offer_candidate(archive, placement, batch, j, birth, qd_offset, counters, qd_score,
+                         max_fitness);
+}
+
+InsertResult offer_candidate(EliteArchive& archive, const Placement& placement, const Batch& batch,
+                             std::size_t j, std::uint64_t birth, double qd_offset,
+                             SearchCounters& counters, double& qd_score, double& max_fitness) {
+  InsertResult r = archive.insert_placed(placement, batch.genome(j), batch.fitness[j],
+                                         batch.descriptor(j), birth, batch.extra(j));
   if (archive.has_thresholds() && r.outcome != Insertion::invalid) {
     r.threshold = archive.update_threshold(r.cell, batch.fitness[j]);
     r.above_threshold = batch.fitness[j] > r.threshold;

@@ -94,6 +94,10 @@ class SearchAlgorithm {
 InsertResult offer_candidate(EliteArchive& archive, const Batch& batch, std::size_t j,
                              std::uint64_t birth, double qd_offset, SearchCounters& counters,
                              double& qd_score, double& max_fitness);
+// The same with the candidate already placed (EliteArchive::place, on any thread).
+InsertResult offer_candidate(EliteArchive& archive, const Placement& placement, const Batch& batch,
+                             std::size_t j, std::uint64_t birth, double qd_offset,
+                             SearchCounters& counters, double& qd_score, double& max_fitness);
 
 // The history row after a batch. Before the first elite the max fitness is the lowest possible
 // one, keeping the stored value finite.
