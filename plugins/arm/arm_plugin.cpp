@@ -58,7 +58,7 @@ TESSERA_GLUE_STANDARD_EXPORTS(kName)
 extern "C" {
 
 TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_t error_size) {
-  try {
+  return glue::create_instance(error, error_size, [&] {
     auto instance = std::make_unique<tsr_instance>();
     instance->options = read_options(options_toml);
     const std::size_t n = instance->options.joints;
@@ -86,12 +86,7 @@ TSR_EXPORT tsr_instance* tsr_create(const char* options_toml, char* error, size_
     }
     m.finish();
     return instance.release();
-  } catch (const std::exception& e) {
-    glue::write_error(error, error_size, e.what());
-  } catch (...) {
-    glue::write_error(error, error_size, "unknown error while reading the options");
-  }
-  return nullptr;
+  });
 }
 
 TSR_EXPORT int tsr_evaluate(tsr_instance* instance, size_t count, const double* genomes,

@@ -29,6 +29,20 @@ inline void write_error(char* error, std::size_t size, std::string_view text) {
   error[n] = '\0';
 }
 
+// The body of tsr_create: runs `make` (which returns the new instance) so that no C++ exception
+// crosses the C ABI; any exception becomes the error text and a null instance.
+template <class Make>
+auto create_instance(char* error, std::size_t size, Make&& make) -> decltype(make()) {
+  try {
+    return make();
+  } catch (const std::exception& e) {
+    write_error(error, size, e.what());
+  } catch (...) {
+    write_error(error, size, "unknown error while reading the options");
+  }
+  return nullptr;
+}
+
 // Thrown by option checks; the message goes back through tsr_create's error buffer.
 struct OptionError : std::exception {
   explicit OptionError(std::string m) : message(std::move(m)) {}
