@@ -11,7 +11,7 @@ import shutil
 
 import h5py
 import numpy as np
-from tessera_test_util import SOURCE, run, problem, tempdir
+from tessera_test_util import SOURCE, point_arena_layout_at_shipped, problem, run, tempdir
 
 work = tempdir()
 fixtures = os.path.join(SOURCE, "tests", "fixtures", "archives")
@@ -99,12 +99,7 @@ for name, case in cases.items():
     copy = os.path.join(work, name)
     shutil.copy(path, copy)
     if "arena" in name:  # its stored run file names the layout by an absolute path
-        with h5py.File(copy, "r+") as f:
-            config = f.attrs["config"]
-            start = config.index("layout = '") + len("layout = '")
-            end = config.index("'", start)
-            layout = os.path.join(SOURCE, "problems", "arenas", "open.txt")
-            f.attrs["config"] = config[:start] + layout + config[end:]
+        point_arena_layout_at_shipped(copy)
     run("resume", copy, "-n", a["evaluations"] + 100, "--threads", 2, "--quiet")
     with h5py.File(copy, "r") as f:
         check(int(f.attrs["format_version"]) == 2, f"{name}: resumed archive is format 2")

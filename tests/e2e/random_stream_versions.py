@@ -11,7 +11,8 @@ import shutil
 
 import h5py
 import numpy as np
-from tessera_test_util import SOURCE, assert_same_run, problem, read_archive, run, tempdir
+from tessera_test_util import (SOURCE, assert_same_run, point_arena_layout_at_shipped, problem,
+                               read_archive, run, tempdir)
 
 work = tempdir()
 fixtures = os.path.join(SOURCE, "tests", "fixtures", "archives")
@@ -36,12 +37,7 @@ for name, (reference, budget) in cases.items():
         copy = os.path.join(work, f"{threads}-{name}")
         shutil.copy(os.path.join(fixtures, name), copy)
         if "arena" in name:  # its stored run file names the layout by an absolute path
-            with h5py.File(copy, "r+") as f:
-                config = f.attrs["config"]
-                start = config.index("layout = '") + len("layout = '")
-                end = config.index("'", start)
-                layout = os.path.join(SOURCE, "problems", "arenas", "open.txt")
-                f.attrs["config"] = config[:start] + layout + config[end:]
+            point_arena_layout_at_shipped(copy)
         run("resume", copy, "-n", budget, "--threads", threads, "--quiet")
         got = read_archive(copy)
         want = read_archive(os.path.join(fixtures, reference))
