@@ -12,6 +12,7 @@
 #include <sstream>
 
 #include "core/base/errors.hpp"
+#include "io/input_file.hpp"
 #include "io/closest_name.hpp"
 #include "io/emitter_keys.hpp"
 
@@ -547,20 +548,9 @@ RunConfig parse_run_text(const std::string& text, const std::string& source,
 }
 
 RunConfig load_run_file(const std::string& path, const std::vector<std::string>& overrides) {
-  // Refused before opening: a folder reads as empty text, a named pipe blocks the open.
-  std::error_code ec;
-  const auto status = fs::status(path, ec);
-  if (status.type() == fs::file_type::not_found) throw InputError(path + ": no such run file");
-  if (status.type() == fs::file_type::directory)
-    throw InputError(path + ": is a folder, not a run file");
-  if (!ec && status.type() != fs::file_type::regular)
-    throw InputError(path + ": is not a regular file (a run file is a TOML file)");
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw InputError(path + ": cannot open the run file");
-  std::ostringstream text;
-  text << in.rdbuf();
+  const std::string text = read_input_file(path, "run file");
   const std::string base = fs::absolute(fs::path(path)).parent_path().string();
-  return parse_run_text(text.str(), path, base, overrides);
+  return parse_run_text(text, path, base, overrides);
 }
 
 }  // namespace tessera

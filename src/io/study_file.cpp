@@ -10,6 +10,7 @@
 #include <sstream>
 
 #include "core/base/errors.hpp"
+#include "io/input_file.hpp"
 #include "io/run_file.hpp"
 
 namespace tessera {
@@ -272,21 +273,10 @@ std::vector<std::string> measure_names(const StudyMeasure& m) {
 }
 
 StudySpec load_study_file(const std::string& path) {
-  // Refused before opening, as run files are: a folder reads as empty text, a pipe blocks.
-  std::error_code ec;
-  const auto status = fs::status(path, ec);
-  if (status.type() == fs::file_type::not_found) throw InputError(path + ": no such study file");
-  if (status.type() == fs::file_type::directory)
-    throw InputError(path + ": is a folder, not a study file");
-  if (!ec && status.type() != fs::file_type::regular)
-    throw InputError(path + ": is not a regular file (a study file is a TOML file)");
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw InputError(path + ": cannot open the study file");
-  std::ostringstream text;
-  text << in.rdbuf();
+  const std::string text = read_input_file(path, "study file");
   toml::table root;
   try {
-    root = toml::parse(text.str(), path);
+    root = toml::parse(text, path);
   } catch (const toml::parse_error& e) {
     throw InputError(path + ":" + std::to_string(e.source().begin.line) + ": " +
                      std::string(e.description()));
