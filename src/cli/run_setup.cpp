@@ -42,7 +42,8 @@ std::shared_ptr<const DescriptorSpace> build_space(const RunConfig& config, cons
 }
 
 // The elites of the archive named by search.start_from, as the genomes the search starts from.
-std::shared_ptr<const StartGenomes> start_genomes(const RunConfig& config, const ProblemInfo& info) {
+std::shared_ptr<const StartGenomes> start_genomes(const RunConfig& config,
+                                                  const ProblemInfo& info) {
   const std::string key = config.source + ": key 'search.start_from': ";
   ArchiveSnapshot source;
   try {
@@ -107,9 +108,18 @@ PreparedRun prepare_run(RunConfig config, std::size_t threads, const std::string
     } catch (const std::invalid_argument& e) {
       throw InputError(config.source + ": key 'search.emitters': " + e.what());
     }
-    run.search = std::make_unique<MapElitesSearch>(config.search, space, info.genome,
-                                                   info.fitness_lower, std::move(emitter),
-                                                   evaluate, info.extra_names.size());
+    auto search =
+        std::make_unique<MapElitesSearch>(config.search, space, info.genome, info.fitness_lower,
+                                          std::move(emitter), evaluate, info.extra_names.size());
+    // In-process plugins are evaluated where their candidates are made; external workers keep
+    // whole batches, which they spread over their processes.
+    if (run.evaluator && config.problem.kind == "plugin") {
+      auto evaluator = run.evaluator;
+      search->set_range_evaluator([evaluator](Batch& batch, std::size_t first, std::size_t count) {
+        evaluator->evaluate_range(batch, first, count);
+      });
+    }
+    run.search = std::move(search);
   } else if (is_population_algorithm(config.algorithm)) {
     try {
       run.search = std::make_unique<PopulationSearch>(

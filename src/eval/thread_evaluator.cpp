@@ -1,6 +1,7 @@
 #include "eval/thread_evaluator.hpp"
 
 #include <tbb/blocked_range.h>
+#include <tbb/global_control.h>
 #include <tbb/parallel_for.h>
 #include <tbb/task_arena.h>
 
@@ -18,8 +19,14 @@ struct ThreadEvaluator::Arena {
 
 ThreadEvaluator::ThreadEvaluator(std::shared_ptr<const Problem> problem, std::size_t threads)
     : problem_(std::move(problem)),
-      threads_(threads == 0 ? std::max(1u, std::thread::hardware_concurrency()) : threads),
-      arena_(std::make_unique<Arena>(static_cast<int>(threads_))) {}
+      threads_(threads == 0 ? std::max(1u, std::thread::hardware_concurrency()) : threads) {
+  // An arena of its own only when the caller's has another size: entering a second arena moves
+  // the worker threads across on every batch, which costs more than a batch of cheap evaluations.
+  const auto caller = std::min<std::size_t>(
+      static_cast<std::size_t>(tbb::this_task_arena::max_concurrency()),
+      tbb::global_control::active_value(tbb::global_control::max_allowed_parallelism));
+  if (caller != threads_) arena_ = std::make_unique<Arena>(static_cast<int>(threads_));
+}
 
 ThreadEvaluator::~ThreadEvaluator() = default;
 
@@ -48,7 +55,7 @@ void ThreadEvaluator::evaluate(Batch& batch) {
   const std::size_t chunks = (batch.count + chunk - 1) / chunk;
   std::exception_ptr failure;
   std::mutex failure_mutex;
-  arena_->arena.execute([&] {
+  const auto run = [&] {
     tbb::parallel_for(tbb::blocked_range<std::size_t>(0, chunks, 1),
                       [&](const tbb::blocked_range<std::size_t>& range) {
                         auto instance = acquire();
@@ -64,8 +71,24 @@ void ThreadEvaluator::evaluate(Batch& batch) {
                         }
                         release(std::move(instance));
                       });
-  });
+  };
+  if (arena_)
+    arena_->arena.execute(run);
+  else
+    run();
   if (failure) std::rethrow_exception(failure);
+}
+
+void ThreadEvaluator::evaluate_range(Batch& batch, std::size_t first, std::size_t count) {
+  if (count == 0) return;
+  auto instance = acquire();
+  try {
+    instance->evaluate(batch, first, count);
+  } catch (...) {
+    release(std::move(instance));
+    throw;
+  }
+  release(std::move(instance));
 }
 
 }  // namespace tessera

@@ -21,6 +21,9 @@ class ThreadEvaluator {
 
   // Fills fitness, descriptors, valid and extras of every candidate of the batch.
   void evaluate(Batch& batch);
+  // The same for candidates [first, first + count), on the calling thread; safe from several
+  // threads at once on disjoint ranges (each takes its own instance from the pool).
+  void evaluate_range(Batch& batch, std::size_t first, std::size_t count);
 
   std::size_t threads() const { return threads_; }
   const Problem& problem() const { return *problem_; }
@@ -35,7 +38,7 @@ class ThreadEvaluator {
   std::shared_ptr<const Problem> problem_;
   std::size_t threads_;
   struct Arena;
-  std::unique_ptr<Arena> arena_;
+  std::unique_ptr<Arena> arena_;  // null: the caller's arena already has `threads` threads
   std::mutex pool_mutex_;
   std::vector<std::unique_ptr<ProblemInstance>> pool_;  // idle instances, reused across batches
 };

@@ -5,10 +5,11 @@
 #include <limits>
 #include <memory>
 #include <stdexcept>
+#include <vector>
 
 #include "core/archive/archive.hpp"
-#include "core/base/rng.hpp"
 #include "core/archive/space.hpp"
+#include "core/base/rng.hpp"
 
 using namespace tessera;
 
@@ -100,6 +101,55 @@ TEST_CASE("archive insertion: new cell, improvement, ties keep the incumbent, in
   CHECK(archive.insert(g1, 9.0, d, 8, /*valid=*/false).outcome == Insertion::invalid);
   CHECK(archive.size() == 1);
   CHECK(archive.fitness(0) == 2.0);
+}
+
+TEST_CASE("candidates placed a batch ahead and marked beaten insert as one by one") {
+  // MAP-Elites keeps the best per cell (Mouret & Clune 2015): marking a candidate beaten when
+  // placed, before the batch's insertions, must give the same answers and elites as inserting
+  // each candidate on its own. Fitness on a coarse scale, so ties with the incumbent occur.
+  EliteArchive batched(unit_grid(10, 10), 2), single(unit_grid(10, 10), 2);
+  Rng rng(9, 1);
+  std::size_t beaten = 0, rejected = 0;
+  for (std::uint64_t batch = 0; batch < 40; ++batch) {
+    std::vector<std::vector<double>> genomes(50), descriptors(50);
+    std::vector<double> fitness(50);
+    std::vector<Placement> placed(50);
+    for (std::size_t j = 0; j < 50; ++j) {
+      genomes[j] = {rng.uniform(), rng.uniform()};
+      descriptors[j] = {rng.uniform(-1.0, 1.0), rng.uniform(-1.0, 1.0)};
+      fitness[j] = std::floor(rng.uniform(0.0, 200.0));
+      placed[j] = batched.place(genomes[j], fitness[j], descriptors[j]);
+      batched.mark_if_beaten(placed[j], fitness[j]);
+      beaten += placed[j].beaten;
+    }
+    for (std::size_t j = 0; j < 50; ++j) {
+      const std::uint64_t birth = batch * 50 + j + 1;
+      const auto a =
+          batched.insert_placed(placed[j], genomes[j], fitness[j], descriptors[j], birth);
+      const auto b = single.insert(genomes[j], fitness[j], descriptors[j], birth);
+      REQUIRE(a.outcome == b.outcome);
+      REQUIRE(a.cell == b.cell);
+      if (placed[j].beaten) REQUIRE(a.outcome == Insertion::rejected);
+      rejected += a.outcome == Insertion::rejected;
+    }
+  }
+  REQUIRE(batched.size() == single.size());
+  for (std::size_t i = 0; i < single.size(); ++i) {
+    REQUIRE(batched.cell(i) == single.cell(i));
+    REQUIRE(batched.fitness(i) == single.fitness(i));
+    REQUIRE(batched.birth(i) == single.birth(i));
+  }
+  CHECK(beaten > 500);            // most late candidates are beaten when placed
+  CHECK(rejected > beaten + 20);  // and some are rejected only by an earlier one of their batch
+
+  // With acceptance thresholds (CMA-MAE) every candidate reaches the cell: never marked.
+  EliteArchive thresholds(unit_grid(5, 5), 2);
+  thresholds.enable_thresholds(0.5, 0.0);
+  const std::vector<double> g{0.0, 0.0}, d{0.1, 0.1};
+  thresholds.insert(g, 5.0, d, 1);
+  Placement p = thresholds.place(g, 1.0, d);
+  thresholds.mark_if_beaten(p, 1.0);
+  CHECK_FALSE(p.beaten);
 }
 
 TEST_CASE("every elite keeps the extra figures of its own evaluation") {

@@ -31,7 +31,7 @@ struct Run {
 
 Run make_run(std::size_t threads, std::uint64_t budget, bool nans = false,
              VariationOperator op = VariationOperator::iso_line_dd, std::uint64_t seed = 3,
-             std::int64_t side = 20) {
+             std::int64_t side = 20, bool one_pass = false) {
   Run r;
   r.problem = std::make_shared<testing::ArmTestProblem>(6, nans);
   r.evaluator = std::make_shared<ThreadEvaluator>(r.problem, threads);
@@ -45,10 +45,13 @@ Run make_run(std::size_t threads, std::uint64_t budget, bool nans = false,
   VariationSettings v;
   v.op = op;
   auto ev = r.evaluator;
-  r.search = std::make_unique<MapElitesSearch>(s, space, r.problem->info().genome,
-                                               r.problem->info().fitness_lower,
-                                               std::make_unique<VariationEmitter>(v),
-                                               [ev](Batch& b) { ev->evaluate(b); });
+  r.search = std::make_unique<MapElitesSearch>(
+      s, space, r.problem->info().genome, r.problem->info().fitness_lower,
+      std::make_unique<VariationEmitter>(v), [ev](Batch& b) { ev->evaluate(b); });
+  if (one_pass)
+    r.search->set_range_evaluator([ev](Batch& b, std::size_t first, std::size_t count) {
+      ev->evaluate_range(b, first, count);
+    });
   return r;
 }
 
@@ -189,6 +192,39 @@ TEST_CASE("bit-identical archives for 1 and 2 threads") {
   ArchiveSnapshot three;
   other.search->save(three);
   CHECK(three.fitness != one.fitness);
+}
+
+TEST_CASE("making, evaluating and placing chunks in one pass changes nothing") {
+  // The one-pass loop (each thread makes, evaluates and places its chunks) against the loop of
+  // three passes: every batch's candidates, answers and archive bit for bit, for both operators,
+  // with invalid candidates, 1 and 3 threads, and a budget ending inside a batch (3,050).
+  for (const auto op : {VariationOperator::iso_line_dd, VariationOperator::gaussian}) {
+    for (const std::size_t threads : {1, 3}) {
+      tbb::global_control c(tbb::global_control::max_allowed_parallelism, threads);
+      auto three = make_run(threads, 3050, true, op);
+      auto one = make_run(threads, 3050, true, op, 3, 20, /*one_pass=*/true);
+      std::size_t rejected = 0;
+      while (!three.search->finished()) {
+        three.search->step();
+        one.search->step();
+        REQUIRE(one.search->last_batch().genomes == three.search->last_batch().genomes);
+        const auto& a = one.search->last_results();
+        const auto& b = three.search->last_results();
+        REQUIRE(a.size() == b.size());
+        for (std::size_t j = 0; j < a.size(); ++j) {
+          REQUIRE(a[j].outcome == b[j].outcome);
+          REQUIRE(a[j].cell == b[j].cell);
+          rejected += a[j].outcome == Insertion::rejected;
+        }
+      }
+      REQUIRE(one.search->finished());
+      ArchiveSnapshot x, y;
+      one.search->save(x);
+      three.search->save(y);
+      require_same(x, y);
+      CHECK(rejected > 1000);  // the answers compared include many rejections
+    }
+  }
 }
 
 TEST_CASE("invalid candidates are counted and never stored") {

@@ -15,10 +15,14 @@ constexpr std::size_t kReserveBytes = std::size_t{256} << 20;
 
 const char* to_string(Insertion outcome) {
   switch (outcome) {
-    case Insertion::new_cell: return "new-cell";
-    case Insertion::improved: return "improved";
-    case Insertion::rejected: return "rejected";
-    case Insertion::invalid: return "invalid";
+    case Insertion::new_cell:
+      return "new-cell";
+    case Insertion::improved:
+      return "improved";
+    case Insertion::rejected:
+      return "rejected";
+    case Insertion::invalid:
+      return "invalid";
   }
   return "?";
 }
@@ -69,6 +73,12 @@ Placement EliteArchive::place(std::span<const double> genome, double fitness,
   return out;
 }
 
+void EliteArchive::mark_if_beaten(Placement& placement, double fitness) const {
+  if (thresholds_on_ || placement.cell < 0) return;
+  const auto slot = slot_of_cell_[static_cast<std::size_t>(placement.cell)];
+  placement.beaten = slot >= 0 && !(fitness > fitness_[static_cast<std::size_t>(slot)]);
+}
+
 InsertResult EliteArchive::insert_placed(const Placement& lookup, std::span<const double> genome,
                                          double fitness, std::span<const double> descriptor,
                                          std::uint64_t birth, std::span<const double> extras) {
@@ -80,6 +90,10 @@ InsertResult EliteArchive::insert_placed(const Placement& lookup, std::span<cons
   }
   result.cell = lookup.cell;
   result.clamped = lookup.clamped;
+  if (lookup.beaten) {
+    result.outcome = Insertion::rejected;
+    return result;
+  }
   const auto slot = slot_of_cell_[static_cast<std::size_t>(lookup.cell)];
   std::size_t index;
   if (slot < 0) {

@@ -15,20 +15,20 @@ namespace tessera {
 
 // What happened to one candidate offered to the archive.
 enum class Insertion : std::uint8_t {
-  new_cell,   // entered an empty cell
-  improved,   // replaced a worse elite
-  rejected,   // the incumbent was at least as good (ties keep the incumbent)
-  invalid,    // fitness or descriptor not finite, or the evaluation failed
+  new_cell,  // entered an empty cell
+  improved,  // replaced a worse elite
+  rejected,  // the incumbent was at least as good (ties keep the incumbent)
+  invalid,   // fitness or descriptor not finite, or the evaluation failed
 };
 
 const char* to_string(Insertion outcome);
 
 struct InsertResult {
   Insertion outcome = Insertion::rejected;
-  bool clamped = false;       // descriptor was outside the bounds (counted, sent to an edge cell)
-  std::int64_t cell = -1;     // -1 when invalid
+  bool clamped = false;    // descriptor was outside the bounds (counted, sent to an edge cell)
+  std::int64_t cell = -1;  // -1 when invalid
   double replaced_fitness = 0.0;  // the former elite's fitness when outcome == improved
-  double threshold = 0.0;  // with thresholds: the cell's acceptance threshold before this one
+  double threshold = 0.0;        // with thresholds: the cell's acceptance threshold before this one
   bool above_threshold = false;  // with thresholds: fitness exceeded it (the threshold moved)
 };
 
@@ -37,6 +37,10 @@ struct InsertResult {
 struct Placement {
   std::int64_t cell = -1;  // -1 when invalid (fitness, descriptor or genome not finite, or failed)
   bool clamped = false;    // descriptor was outside the bounds (sent to an edge cell)
+  // The cell's elite was already at least as fit when placed. Elites only get fitter, so the
+  // insertion will reject the candidate: late in a run most are, and the serial part then
+  // need not touch the cell at all. Never set while acceptance thresholds are kept.
+  bool beaten = false;
 };
 
 // Elites are kept in the order their cells were first filled. That order is part of the state
@@ -58,6 +62,9 @@ class EliteArchive {
   // space); insert_placed() is the serial part and takes place()'s answer for the same candidate.
   Placement place(std::span<const double> genome, double fitness,
                   std::span<const double> descriptor, bool valid = true) const;
+  // Between the two, from many threads while no insertion runs: sets placement.beaten when the
+  // cell's elite is already at least as fit (prefetch_fitness() first on a large archive).
+  void mark_if_beaten(Placement& placement, double fitness) const;
   InsertResult insert_placed(const Placement& placement, std::span<const double> genome,
                              double fitness, std::span<const double> descriptor,
                              std::uint64_t birth, std::span<const double> extras = {});
@@ -65,6 +72,11 @@ class EliteArchive {
   // the memory they touch is on its way: the cell's slot, then (once that is in) its elite.
   void prefetch_slot(std::int64_t cell) const {
     if (cell >= 0) __builtin_prefetch(slot_of_cell_.data() + cell);
+  }
+  void prefetch_fitness(std::int64_t cell) const {
+    if (cell < 0) return;
+    const std::int32_t slot = slot_of_cell_[static_cast<std::size_t>(cell)];
+    if (slot >= 0) __builtin_prefetch(fitness_.data() + slot);
   }
   void prefetch_elite(std::int64_t cell) const {
     if (cell < 0) return;
@@ -77,6 +89,12 @@ class EliteArchive {
     __builtin_prefetch(genomes_.data() + i * genome_size_, 1);
     __builtin_prefetch(genomes_.data() + (i + 1) * genome_size_ - 1, 1);
     __builtin_prefetch(descriptors_.data() + i * descriptor_size_, 1);
+  }
+
+  // A hint for variation: elite i's genome will be read soon (its first and last line).
+  void prefetch_genome(std::size_t i) const {
+    __builtin_prefetch(genomes_.data() + i * genome_size_);
+    __builtin_prefetch(genomes_.data() + (i + 1) * genome_size_ - 1);
   }
 
   // Puts an elite back exactly as saved (used when reading an archive file). Throws
@@ -106,13 +124,22 @@ class EliteArchive {
   std::span<const double> extras(std::size_t i) const {
     return {extras_.data() + i * extra_size_, extra_size_};
   }
+  // Every elite's values at once, in elite order, rows back to back (for bulk copies).
+  std::span<const std::int64_t> all_cells() const { return cells_; }
+  std::span<const double> all_fitness() const { return {fitness_.data(), fitness_.size()}; }
+  std::span<const std::uint64_t> all_births() const { return {birth_.data(), birth_.size()}; }
+  std::span<const double> all_genomes() const { return {genomes_.data(), genomes_.size()}; }
+  std::span<const double> all_descriptors() const {
+    return {descriptors_.data(), descriptors_.size()};
+  }
+  std::span<const double> all_extras() const { return extras_; }
   // Index of the elite in `cell`, if any.
   std::optional<std::size_t> elite_in(std::int64_t cell) const;
 
-  double coverage() const;                       // filled cells / cells
-  double qd_score(double offset) const;          // sum of (fitness - offset)
-  double max_fitness() const;                    // -inf when empty
-  std::optional<std::size_t> best() const;       // index of the fittest elite (first on ties)
+  double coverage() const;                  // filled cells / cells
+  double qd_score(double offset) const;     // sum of (fitness - offset)
+  double max_fitness() const;               // -inf when empty
+  std::optional<std::size_t> best() const;  // index of the fittest elite (first on ties)
 
   // Acceptance thresholds of CMA-MAE (Fontaine & Nikolaidis, ICLR 2023), one per cell, kept
   // beside the elites (which stay the best ever found). Empty cells sit at `minimum`.

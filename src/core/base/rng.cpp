@@ -72,7 +72,22 @@ Rng::Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b, std::uint
 
 void Rng::normals(std::span<double> out) {
   if (version_ == StreamVersion::ziggurat) {
-    for (double& v : out) v = ziggurat();
+    // The generator's state lives in locals (registers) through the common case; it goes back
+    // to the members only around the rare edge path, which draws from them.
+    std::uint64_t s0 = s_[0], s1 = s_[1], s2 = s_[2], s3 = s_[3];
+    for (double& v : out) {
+      const std::uint64_t bits = advance(s0, s1, s2, s3);
+      const unsigned layer = static_cast<unsigned>(bits & 0xFF);
+      const double z = static_cast<double>(bits >> 11) * 0x1.0p-53 * zig_x_[layer];
+      if (z < zig_x_[layer + 1]) [[likely]] {
+        v = with_sign(z, bits);
+        continue;
+      }
+      s_[0] = s0, s_[1] = s1, s_[2] = s2, s_[3] = s3;
+      v = ziggurat_edge(layer, z, (bits & 0x100) != 0);
+      s0 = s_[0], s1 = s_[1], s2 = s_[2], s3 = s_[3];
+    }
+    s_[0] = s0, s_[1] = s1, s_[2] = s2, s_[3] = s3;
   } else {
     for (double& v : out) v = polar();
   }

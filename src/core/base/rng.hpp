@@ -10,6 +10,7 @@
 // The hot paths (next, uniform) are defined in this header so that callers inline them.
 #pragma once
 
+#include <bit>
 #include <cstdint>
 #include <span>
 
@@ -29,17 +30,7 @@ class Rng {
   Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b = 0, std::uint64_t key_c = 0,
       StreamVersion version = kLatestStreamVersion);
 
-  std::uint64_t next() {
-    const std::uint64_t result = rotl(s_[1] * 5, 7) * 9;
-    const std::uint64_t t = s_[1] << 17;
-    s_[2] ^= s_[0];
-    s_[3] ^= s_[1];
-    s_[1] ^= s_[2];
-    s_[0] ^= s_[3];
-    s_[2] ^= t;
-    s_[3] = rotl(s_[3], 45);
-    return result;
-  }
+  std::uint64_t next() { return advance(s_[0], s_[1], s_[2], s_[3]); }
   double uniform() { return static_cast<double>(next() >> 11) * 0x1.0p-53; }   // [0, 1)
   double uniform(double lo, double hi) { return lo + (hi - lo) * uniform(); }  // [lo, hi)
   // A standard normal deviate by this stream's version.
@@ -51,14 +42,33 @@ class Rng {
 
  private:
   static std::uint64_t rotl(std::uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
+  // One xoshiro256** step over a state held anywhere: the members, or locals that the compiler
+  // keeps in registers through a loop (an array would stay in memory).
+  static std::uint64_t advance(std::uint64_t& s0, std::uint64_t& s1, std::uint64_t& s2,
+                               std::uint64_t& s3) {
+    const std::uint64_t result = rotl(s1 * 5, 7) * 9;
+    const std::uint64_t t = s1 << 17;
+    s2 ^= s0;
+    s3 ^= s1;
+    s1 ^= s2;
+    s0 ^= s3;
+    s2 ^= t;
+    s3 = rotl(s3, 45);
+    return result;
+  }
   double polar();
   double ziggurat() {
     // The common case inline: a point inside a layer's rectangle, under the curve.
     const std::uint64_t bits = next();
     const unsigned layer = static_cast<unsigned>(bits & 0xFF);
     const double z = static_cast<double>(bits >> 11) * 0x1.0p-53 * zig_x_[layer];
-    if (z < zig_x_[layer + 1]) return (bits & 0x100) != 0 ? -z : z;
+    if (z < zig_x_[layer + 1]) return with_sign(z, bits);
     return ziggurat_edge(layer, z, (bits & 0x100) != 0);
+  }
+  // z (>= 0) negated when bit 8 of `bits` is set, without a branch: the sign is a coin toss,
+  // which a branch would mispredict half the time. Bit-identical to `negative ? -z : z`.
+  static double with_sign(double z, std::uint64_t bits) {
+    return std::bit_cast<double>(std::bit_cast<std::uint64_t>(z) | ((bits & 0x100) << 55));
   }
   double ziggurat_edge(unsigned layer, double z, bool negative);
 

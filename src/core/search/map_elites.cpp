@@ -16,6 +16,9 @@ namespace {
 // Candidates between a prefetch and its use: enough to cover a memory access at the serial
 // insertion's pace (a round figure, not tuned).
 constexpr std::size_t kPrefetchAhead = 8;
+// Largest chunk of the one-pass batch: a batch of 1024 gives each of two threads about eight
+// chunks to balance, and a plugin call per chunk stays small next to 64 cheap evaluations.
+constexpr std::size_t kPassChunk = 64;
 
 }  // namespace
 
@@ -40,6 +43,7 @@ MapElitesSearch::MapElitesSearch(SearchSettings settings,
 void MapElitesSearch::step() {
   if (finished()) return;
   const std::uint64_t remaining = settings_.evaluations - counters_.evaluations;
+  bool placed = false;  // candidates made, evaluated and placed in one pass
   if (batch_done_ == 0) {
     // The whole batch is drawn even when the budget ends inside it, so that a later resume can
     // evaluate the rest exactly as one run of the larger budget would have.
@@ -52,30 +56,37 @@ void MapElitesSearch::step() {
     context.genome_bounds = &genome_bounds_;
     context.start = settings_.start.get();
     context.streams = settings_.streams;
-    emitter_->ask(archive_, context, batch_);
     results_.assign(batch_.count, InsertResult{});
+    placements_.resize(batch_.count);
+    if (evaluate_range_ && emitter_->makes_candidates_independently() &&
+        remaining >= batch_.count) {
+      make_evaluate_place(context);
+      placed = true;
+    } else {
+      emitter_->ask(archive_, context, batch_);
+    }
   }
   const std::size_t first = batch_done_;
   const std::size_t count =
       static_cast<std::size_t>(std::min<std::uint64_t>(batch_.count - first, remaining));
-  evaluate_range(first, count);
-
-  // Finiteness and cell lookup read only the space: done for the whole batch on all threads.
-  placements_.resize(batch_.count);
-  tbb::parallel_for(tbb::blocked_range<std::size_t>(first, first + count, 256),
-                    [&](const tbb::blocked_range<std::size_t>& range) {
-                      for (std::size_t j = range.begin(); j != range.end(); ++j)
-                        placements_[j] = archive_.place(batch_.genome(j), batch_.fitness[j],
-                                                        batch_.descriptor(j), batch_.valid[j] != 0);
-                    });
+  if (!placed) {
+    placements_.resize(batch_.count);
+    evaluate_range(first, count);
+    // Finiteness and cell lookup read only the space: done for the whole batch on all threads.
+    tbb::parallel_for(tbb::blocked_range<std::size_t>(first, first + count, kPassChunk),
+                      [&](const tbb::blocked_range<std::size_t>& range) {
+                        place_range(range.begin(), range.size());
+                      });
+  }
   // Insertion is serial and in candidate order: the archive's evolution is fixed by the seed.
   // On a large grid each candidate's cell is a cache miss; asking for it a few candidates ahead
   // (slot, then elite) overlaps those misses.
   const std::size_t end = first + count;
   for (std::size_t j = first; j < end; ++j) {
-    if (j + 2 * kPrefetchAhead < end)
+    if (j + 2 * kPrefetchAhead < end && !placements_[j + 2 * kPrefetchAhead].beaten)
       archive_.prefetch_slot(placements_[j + 2 * kPrefetchAhead].cell);
-    if (j + kPrefetchAhead < end) archive_.prefetch_elite(placements_[j + kPrefetchAhead].cell);
+    if (j + kPrefetchAhead < end && !placements_[j + kPrefetchAhead].beaten)
+      archive_.prefetch_elite(placements_[j + kPrefetchAhead].cell);
     results_[j] = offer_candidate(archive_, placements_[j], batch_, j,
                                   counters_.evaluations + (j - first) + 1, qd_offset_, counters_,
                                   qd_score_, max_fitness_);
@@ -93,6 +104,31 @@ void MapElitesSearch::step() {
     history_.back() = row;
   else
     history_.push_back(row);
+}
+
+void MapElitesSearch::place_range(std::size_t first, std::size_t count) {
+  // Three sweeps so that a large archive's cache misses overlap: cells (and their slots asked
+  // for), then the slots' elites asked for, then the comparison.
+  const std::size_t end = first + count;
+  for (std::size_t j = first; j != end; ++j) {
+    placements_[j] = archive_.place(batch_.genome(j), batch_.fitness[j], batch_.descriptor(j),
+                                    batch_.valid[j] != 0);
+    archive_.prefetch_slot(placements_[j].cell);
+  }
+  for (std::size_t j = first; j != end; ++j) archive_.prefetch_fitness(placements_[j].cell);
+  for (std::size_t j = first; j != end; ++j)
+    archive_.mark_if_beaten(placements_[j], batch_.fitness[j]);
+}
+
+void MapElitesSearch::make_evaluate_place(const EmitContext& context) {
+  // Each chunk is made, evaluated and placed by one thread while the archive stays as the batch
+  // found it; candidates land at their own index, so chunking never changes the outcome.
+  tbb::parallel_for(tbb::blocked_range<std::size_t>(0, batch_.count, kPassChunk),
+                    [&](const tbb::blocked_range<std::size_t>& range) {
+                      emitter_->ask_range(archive_, context, batch_, range.begin(), range.size());
+                      evaluate_range_(batch_, range.begin(), range.size());
+                      place_range(range.begin(), range.size());
+                    });
 }
 
 void MapElitesSearch::evaluate_range(std::size_t first, std::size_t count) {
@@ -138,24 +174,15 @@ std::shared_ptr<const DescriptorSpace> space_from_snapshot(const ArchiveSnapshot
 
 void save_elites(const EliteArchive& archive, ArchiveSnapshot& out) {
   save_space(archive.space(), out);
-  const std::size_t n = archive.size();
-  const std::size_t g = archive.genome_size();
-  const std::size_t d = archive.descriptor_size();
-  const std::size_t e = archive.extra_size();
-  out.cell.resize(n);
-  out.fitness.resize(n);
-  out.birth.resize(n);
-  out.genome.resize(n * g);
-  out.descriptor.resize(n * d);
-  out.extras.resize(n * e);
-  for (std::size_t i = 0; i < n; ++i) {
-    out.cell[i] = archive.cell(i);
-    out.fitness[i] = archive.fitness(i);
-    out.birth[i] = archive.birth(i);
-    std::copy_n(archive.genome(i).data(), g, out.genome.begin() + i * g);
-    std::copy_n(archive.descriptor(i).data(), d, out.descriptor.begin() + i * d);
-    std::copy_n(archive.extras(i).data(), e, out.extras.begin() + i * e);
-  }
+  // Whole arrays in one copy each (no zero-filling first): on a large archive this copy is a
+  // good part of every checkpoint.
+  const auto copy = [](auto from, auto& to) { to.assign(from.begin(), from.end()); };
+  copy(archive.all_cells(), out.cell);
+  copy(archive.all_fitness(), out.fitness);
+  copy(archive.all_births(), out.birth);
+  copy(archive.all_genomes(), out.genome);
+  copy(archive.all_descriptors(), out.descriptor);
+  copy(archive.all_extras(), out.extras);
 }
 
 void restore_elites(const ArchiveSnapshot& in, EliteArchive& archive) {

@@ -4,6 +4,7 @@
 #pragma once
 
 #include <memory>
+#include <utility>
 
 #include "core/archive/archive.hpp"
 #include "core/search/emitter.hpp"
@@ -27,6 +28,13 @@ class MapElitesSearch final : public SearchAlgorithm {
   void save(ArchiveSnapshot& out) const override;
   void restore(const ArchiveSnapshot& in) override;
 
+  // Lets full batches of an emitter that makes candidates independently be made, evaluated and
+  // placed chunk by chunk in one parallel pass: one fork and join per batch instead of three,
+  // and each child still in cache when evaluated. Same archive, bit for bit, as without.
+  void set_range_evaluator(EvaluateRangeFn evaluate_range) {
+    evaluate_range_ = std::move(evaluate_range);
+  }
+
   const EliteArchive& archive() const { return archive_; }
   // The last batch and what the archive did with each candidate (for tests and emitters).
   const Batch& last_batch() const { return batch_; }
@@ -34,6 +42,8 @@ class MapElitesSearch final : public SearchAlgorithm {
 
  private:
   void evaluate_range(std::size_t first, std::size_t count);
+  void make_evaluate_place(const EmitContext& context);
+  void place_range(std::size_t first, std::size_t count);
   void save_partial_batch(ResumeState& state) const;
   void load_partial_batch(const ResumeState& state);
 
@@ -43,6 +53,7 @@ class MapElitesSearch final : public SearchAlgorithm {
   double qd_offset_;
   std::unique_ptr<Emitter> emitter_;
   EvaluateFn evaluate_;
+  EvaluateRangeFn evaluate_range_;  // empty: batches are made, evaluated and placed in turn
   std::size_t extra_size_;
   SearchCounters counters_;
   std::uint64_t next_batch_ = 0;

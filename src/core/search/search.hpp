@@ -29,6 +29,10 @@ struct StartGenomes {
 
 // Fills fitness, descriptors, valid and extras of every candidate of a batch (in parallel).
 using EvaluateFn = std::function<void(Batch&)>;
+// Fills them for candidates [first, first + count) on the calling thread; may be called from
+// several threads at once on disjoint ranges. Given by evaluators that run in this process's
+// threads, so that a search can make, evaluate and place a chunk of a batch in one parallel pass.
+using EvaluateRangeFn = std::function<void(Batch&, std::size_t first, std::size_t count)>;
 
 struct SearchSettings {
   std::uint64_t seed = 1;
@@ -36,15 +40,15 @@ struct SearchSettings {
   std::uint64_t evaluations = 100000;  // budget: total evaluations
   std::uint64_t initial = 0;           // random genomes first; 0 = one batch
   std::uint64_t effective_initial() const { return initial == 0 ? batch : initial; }
-  std::optional<double> stop_fitness;  // stop once the max fitness reaches it
+  std::optional<double> stop_fitness;         // stop once the max fitness reaches it
   std::shared_ptr<const StartGenomes> start;  // initial genomes from elites; null = uniform
   // New runs draw with the latest streams; a resumed run keeps the version its archive records.
   StreamVersion streams = kLatestStreamVersion;
 };
 
 // Initial candidate `index` (its global index): uniform within the bounds, or from `start`.
-void initial_genome(const StartGenomes* start, const Bounds& bounds, std::uint64_t index,
-                    Rng& rng, std::span<double> out);
+void initial_genome(const StartGenomes* start, const Bounds& bounds, std::uint64_t index, Rng& rng,
+                    std::span<double> out);
 
 struct SearchCounters {
   std::uint64_t evaluations = 0;

@@ -3,6 +3,8 @@
 #include <tbb/blocked_range.h>
 #include <tbb/parallel_for.h>
 
+#include <algorithm>
+#include <optional>
 #include <stdexcept>
 
 #include "core/search/search.hpp"
@@ -22,29 +24,51 @@ const char* to_string(VariationOperator op) {
 }
 
 void VariationEmitter::ask(const EliteArchive& archive, const EmitContext& context, Batch& batch) {
-  const Bounds& bounds = *context.genome_bounds;
   // Candidates are independent given the archive at the start of the batch, so they are made
   // in parallel; each draws from its own stream, keeping the batch thread-count independent.
-  tbb::parallel_for(
-      tbb::blocked_range<std::size_t>(0, batch.count, 64),
-      [&](const tbb::blocked_range<std::size_t>& range) {
-        for (std::size_t j = range.begin(); j != range.end(); ++j) {
-          Rng rng(context.seed, context.batch_index, j,
-                  static_cast<std::uint64_t>(StreamPurpose::variation), context.streams);
-          auto child = batch.genome(j);
-          if (archive.empty() || context.first_candidate + j < context.initial) {
-            initial_genome(context.start, bounds, context.first_candidate + j, rng, child);
-            continue;
-          }
-          const auto x = archive.genome(rng.below(archive.size()));
-          if (settings_.op == VariationOperator::gaussian) {
-            gaussian_mutation(x, bounds, settings_.sigma, rng, child);
-          } else {
-            const auto y = archive.genome(rng.below(archive.size()));
-            iso_line_dd(x, y, bounds, settings_.sigma_iso, settings_.sigma_line, rng, child);
-          }
-        }
-      });
+  tbb::parallel_for(tbb::blocked_range<std::size_t>(0, batch.count, 64),
+                    [&](const tbb::blocked_range<std::size_t>& range) {
+                      ask_range(archive, context, batch, range.begin(), range.size());
+                    });
+}
+
+void VariationEmitter::ask_range(const EliteArchive& archive, const EmitContext& context,
+                                 Batch& batch, std::size_t first, std::size_t count) {
+  const Bounds& bounds = *context.genome_bounds;
+  const bool two_parents = settings_.op == VariationOperator::iso_line_dd;
+  // Parents are random rows of the archive, so reading them misses the cache. Every stream
+  // draws its parents first; doing that for a few candidates at once and asking for their rows
+  // overlaps the misses, and leaves each stream where the operator goes on drawing.
+  constexpr std::size_t kAhead = 8;
+  std::optional<Rng> rng[kAhead];
+  std::size_t x[kAhead], y[kAhead];
+  bool random[kAhead];
+  for (std::size_t block = first; block < first + count; block += kAhead) {
+    const std::size_t n = std::min(kAhead, first + count - block);
+    for (std::size_t k = 0; k < n; ++k) {
+      const std::size_t j = block + k;
+      rng[k].emplace(context.seed, context.batch_index, j,
+                     static_cast<std::uint64_t>(StreamPurpose::variation), context.streams);
+      random[k] = archive.empty() || context.first_candidate + j < context.initial;
+      if (random[k]) continue;
+      x[k] = rng[k]->below(archive.size());
+      archive.prefetch_genome(x[k]);
+      if (!two_parents) continue;
+      y[k] = rng[k]->below(archive.size());
+      archive.prefetch_genome(y[k]);
+    }
+    for (std::size_t k = 0; k < n; ++k) {
+      const std::size_t j = block + k;
+      auto child = batch.genome(j);
+      if (random[k])
+        initial_genome(context.start, bounds, context.first_candidate + j, *rng[k], child);
+      else if (two_parents)
+        iso_line_dd(archive.genome(x[k]), archive.genome(y[k]), bounds, settings_.sigma_iso,
+                    settings_.sigma_line, *rng[k], child);
+      else
+        gaussian_mutation(archive.genome(x[k]), bounds, settings_.sigma, *rng[k], child);
+    }
+  }
 }
 
 }  // namespace tessera

@@ -13,9 +13,9 @@ enum class VariationOperator { iso_line_dd, gaussian };
 
 struct VariationSettings {
   VariationOperator op = VariationOperator::iso_line_dd;
-  double sigma_iso = 0.01;   // Iso+LineDD isotropic step, fraction of range (from memory)
-  double sigma_line = 0.2;   // Iso+LineDD line step (from memory)
-  double sigma = 0.05;       // Gaussian mutation step, fraction of range (common practice)
+  double sigma_iso = 0.01;  // Iso+LineDD isotropic step, fraction of range (from memory)
+  double sigma_line = 0.2;  // Iso+LineDD line step (from memory)
+  double sigma = 0.05;      // Gaussian mutation step, fraction of range (common practice)
 };
 
 VariationOperator parse_variation_operator(const std::string& name);  // throws invalid_argument
@@ -26,6 +26,9 @@ class VariationEmitter final : public Emitter {
   explicit VariationEmitter(VariationSettings settings) : settings_(settings) {}
   std::string name() const override { return "variation"; }
   void ask(const EliteArchive& archive, const EmitContext& context, Batch& batch) override;
+  bool makes_candidates_independently() const override { return true; }
+  void ask_range(const EliteArchive& archive, const EmitContext& context, Batch& batch,
+                 std::size_t first, std::size_t count) override;
 
  private:
   VariationSettings settings_;
