@@ -5,7 +5,8 @@ Runs `tessera illuminate problems/arm.toml --evaluations N --threads 2` (10-join
 grid, batch 1024, Iso+LineDD with its defaults) as a whole process, wall time, and
 bench/arm_numpy_baseline.py on the same budget, alternating, REPEATS times each (seed r + 1 for
 repeat r, in both). Prints the medians of the evaluation rates and QD-scores, the ratios with
-their targets (>= 4x the numpy loop at an equal or better QD-score) and the load before and after.
+their targets (>= 4x the numpy loop at an equal or better QD-score, judged by a Mann-Whitney U
+test over the seeds) and the load before and after.
 
 Usage: arm_vs_numpy.py [BUILD_DIR] [REPEATS] [EVALUATIONS]
        (defaults: <source>/build, 5, 2,000,000)
@@ -17,6 +18,8 @@ import subprocess
 import sys
 import tempfile
 import time
+
+from scipy.stats import mannwhitneyu
 
 SOURCE = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
 
@@ -73,6 +76,13 @@ def main():
     print(f"  tessera / numpy process   {med(t_rate) / med(n_process):6.2f}x")
     print(f"  QD-score tessera / numpy  {med(t_qd) / med(n_qd):6.3f}   (target >= 1; range over seeds: "
           f"tessera {min(t_qd):.1f}..{max(t_qd):.1f}, numpy {min(n_qd):.1f}..{max(n_qd):.1f})")
+    # Equal or better QD-score, judged over the seeds: Mann-Whitney U (scipy), one-sided for
+    # "tessera lower" and two-sided.
+    lower = mannwhitneyu(t_qd, n_qd, alternative="less").pvalue
+    either = mannwhitneyu(t_qd, n_qd, alternative="two-sided").pvalue
+    verdict = "lower" if lower < 0.05 else "not lower"
+    print(f"  QD-score, Mann-Whitney U over the seeds: p(tessera lower) = {lower:.3f}, "
+          f"two-sided p = {either:.3f}: {verdict} at the 0.05 level")
     print(f"  load before: {uptime_before}")
     print(f"  load after:  {uptime_after}")
 

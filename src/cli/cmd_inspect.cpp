@@ -50,6 +50,8 @@ void print_text(std::ostream& out, const ArchiveSummary& s) {
   row("problem", s.problem);
   row("written by", "tessera " + s.tool_version);
   row("seed", std::to_string(s.seed));
+  row("streams", "random streams version " + std::to_string(s.random_streams) +
+                     (s.random_streams == 1 ? " (polar-method normals)" : " (ziggurat normals)"));
   std::string space =
       s.space_kind + ", " + with_thousands(static_cast<std::uint64_t>(s.cells)) + " cells";
   if (!s.resolution.empty()) {

@@ -11,6 +11,7 @@ ArchiveSummary summarize_archive(const ArchiveSnapshot& s, const std::string& fi
   out.problem = s.problem;
   out.tool_version = s.tool_version;
   out.seed = s.seed;
+  out.random_streams = s.random_streams;
   out.evaluations = s.evaluations;
   out.space_kind = s.space_kind;
   out.cells = s.cell_count();
@@ -106,6 +107,7 @@ void to_json(nlohmann::ordered_json& out, const ArchiveSummary& s) {
          {"problem", s.problem},
          {"tool_version", s.tool_version},
          {"seed", s.seed},
+         {"random_streams", s.random_streams},
          {"evaluations", s.evaluations},
          {"space", space},
          {"genome_size", s.genome_size},

@@ -4,7 +4,7 @@
 //
 // JSON form, version 2 (every key always present; null where the archive holds no such thing):
 //   format "tessera-inspect", version 2, file, archive_format (the file's format version),
-//   problem, tool_version, seed, evaluations,
+//   problem, tool_version, seed, random_streams, evaluations,
 //   space {kind, cells, dimensions, lower[D], upper[D], names[D], resolution[D] (grid) | null},
 //   genome_size, extra_names[E], elites, coverage, qd_score, fitness_floor,
 //   max_fitness (null when no elites),
@@ -14,7 +14,7 @@
 //   counts {invalid, out_of_bounds (null when the archive has no /resume), failures {reason: n}},
 //   history_rows, resume {algorithm, next_batch} | null.
 // Version 1 had no archive_format, extra_names, best.extras nor novelty_archive, and called
-// fitness_floor qd_offset.
+// fitness_floor qd_offset. random_streams was added within version 2 (a key more, none changed).
 #pragma once
 
 #include <cstddef>
@@ -46,6 +46,7 @@ struct ArchiveSummary {
   std::string problem;
   std::string tool_version;
   std::uint64_t seed = 0;
+  std::int64_t random_streams = 0;  // the stream version the run drew with (root attribute)
   std::uint64_t evaluations = 0;
 
   std::string space_kind;

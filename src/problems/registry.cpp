@@ -73,7 +73,7 @@ std::vector<std::string> plugin_search_path() {
   return unique;
 }
 
-std::vector<PluginEntry> discover_plugins() {
+std::vector<PluginEntry> discover_plugins(std::string_view stop_at) {
   std::vector<PluginEntry> entries;
   std::set<std::string> seen_files;
   std::map<std::string, std::string> provider;  // problem name -> first usable file
@@ -108,7 +108,9 @@ std::vector<PluginEntry> discover_plugins() {
         if (reason.starts_with(prefix)) reason.erase(0, prefix.size());
         entry.error = reason;
       }
+      const bool found = !stop_at.empty() && entry.name == stop_at && entry.error.empty();
       entries.push_back(std::move(entry));
+      if (found) return entries;
     }
   }
   return entries;
@@ -116,7 +118,7 @@ std::vector<PluginEntry> discover_plugins() {
 
 std::shared_ptr<Problem> open_plugin_problem(const std::string& name,
                                              const std::string& options_toml) {
-  const auto entries = discover_plugins();
+  const auto entries = discover_plugins(name);
   for (const auto& entry : entries)
     if (entry.name == name && entry.error.empty())
       return load_plugin_problem(entry.path, options_toml);

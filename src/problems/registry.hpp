@@ -6,6 +6,7 @@
 #include <cstdint>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "problems/problem.hpp"
@@ -20,8 +21,10 @@ struct PluginEntry {
 };
 
 std::vector<std::string> plugin_search_path();
-// Every plugin file found on the search path, loadable or not.
-std::vector<PluginEntry> discover_plugins();
+// Every plugin file found on the search path, loadable or not; with `stop_at`, only those up to
+// and including the first usable one providing that name (the one a run would open), so that a
+// run does not load every other plugin and its libraries on start.
+std::vector<PluginEntry> discover_plugins(std::string_view stop_at = {});
 // Opens a plugin problem by name with its options (TOML text). Throws InputError naming the
 // plugin file and the fault, or listing the available names when none matches.
 std::shared_ptr<Problem> open_plugin_problem(const std::string& name,

@@ -6,6 +6,7 @@ attribute (version 1, the polar method) resumes exactly as the last tessera befo
 streams resumed it (its output is kept in tests/fixtures/archives, made by that tessera); an
 archive naming a version this tessera does not draw is refused in one line. Archives are read
 with h5py (Debian python3-h5py)."""
+import json
 import os
 import shutil
 
@@ -64,4 +65,13 @@ assert len(lines) == 1 and "random streams are version 3" in lines[0] and "futur
     p.stderr
 assert open(copy, "rb").read() == before, "the refused archive is left as it was"
 run("inspect", copy)
+
+# inspect says which version an archive drew with, as h5py reads the attribute.
+for path in (os.path.join(work, "new1", "archive.h5"), os.path.join(work, "1-format1-arm-grid.h5"),
+             copy):
+    with h5py.File(path, "r") as f:
+        want = int(f.attrs["random_streams"]) if "random_streams" in f.attrs else 1
+    shown = json.loads(run("inspect", path, "--format", "json").stdout)["random_streams"]
+    assert shown == want, (path, shown, want)
+    assert f"random streams version {want}" in run("inspect", path).stdout, path
 print("ok")

@@ -381,3 +381,27 @@ TEST_CASE("a second file providing the same problem is reported as shadowed", "[
                        plugin_file(kPluginDir, "arm")));
   fs::remove_all(dir);
 }
+
+TEST_CASE("a run loads the plugins up to its problem's first provider, no further", "[registry]") {
+  // The first provider on the path wins (registry.hpp), so later files cannot change what a run
+  // opens; not loading them keeps other plugins' libraries out of a run's start.
+  use_plugin_path(kPluginDir);
+  const auto all = tessera::discover_plugins();
+  const auto up_to_arm = tessera::discover_plugins("arm");
+  REQUIRE(!up_to_arm.empty());
+  CHECK(up_to_arm.back().name == "arm");
+  CHECK(up_to_arm.size() < all.size());  // the files sorted after it (gait, linkage, ...) stay
+  for (std::size_t i = 0; i < up_to_arm.size(); ++i) CHECK(up_to_arm[i].path == all[i].path);
+
+  // An earlier folder's file providing the name under another file name is the one opened.
+  const fs::path dir = fs::temp_directory_path() / ("tessera-first-" + std::to_string(getpid()));
+  fs::create_directories(dir);
+  fs::copy_file(plugin_file(kPluginDir, "arm"), dir / "tessera-plugin-zz-arm-copy.so");
+  use_plugin_path(dir.string() + ":" + kPluginDir);
+  const auto entries = tessera::discover_plugins("arm");
+  REQUIRE(entries.size() == 1);
+  CHECK(fs::equivalent(entries.front().path, dir / "tessera-plugin-zz-arm-copy.so"));
+  CHECK(fs::equivalent(tessera::open_plugin_problem("arm", "")->info().origin,
+                       dir / "tessera-plugin-zz-arm-copy.so"));
+  fs::remove_all(dir);
+}

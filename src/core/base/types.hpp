@@ -27,14 +27,21 @@ struct Batch {
   std::size_t genome_size = 0;
   std::size_t descriptor_size = 0;
   std::size_t extra_size = 0;
-  std::vector<double> genomes;      // [count * genome_size]
-  std::vector<double> fitness;      // [count]
-  std::vector<double> descriptors;  // [count * descriptor_size]
-  std::vector<unsigned char> valid; // [count], 1 = evaluation usable
-  std::vector<double> extras;       // [count * extra_size]
+  std::vector<double> genomes;       // [count * genome_size]
+  std::vector<double> fitness;       // [count]
+  std::vector<double> descriptors;   // [count * descriptor_size]
+  std::vector<unsigned char> valid;  // [count], 1 = evaluation usable
+  std::vector<double> extras;        // [count * extra_size]
 
-  void resize(std::size_t n, std::size_t g, std::size_t d, std::size_t e);
-  std::span<double> genome(std::size_t i) { return {genomes.data() + i * genome_size, genome_size}; }
+  void resize(std::size_t n, std::size_t g, std::size_t d, std::size_t e);  // all zero
+  // The same shape without zeroing what the vectors already hold: for a loop that writes every
+  // genome itself and clears the rest with clear_results() chunk by chunk, on its threads.
+  void reshape(std::size_t n, std::size_t g, std::size_t d, std::size_t e);
+  // Zeroes what evaluation writes (fitness, descriptors, valid, extras) of [first, first + count).
+  void clear_results(std::size_t first, std::size_t count);
+  std::span<double> genome(std::size_t i) {
+    return {genomes.data() + i * genome_size, genome_size};
+  }
   std::span<const double> genome(std::size_t i) const {
     return {genomes.data() + i * genome_size, genome_size};
   }

@@ -45,9 +45,6 @@ void MapElitesSearch::step() {
   const std::uint64_t remaining = settings_.evaluations - counters_.evaluations;
   bool placed = false;  // candidates made, evaluated and placed in one pass
   if (batch_done_ == 0) {
-    // The whole batch is drawn even when the budget ends inside it, so that a later resume can
-    // evaluate the rest exactly as one run of the larger budget would have.
-    batch_.resize(settings_.batch, archive_.genome_size(), archive_.descriptor_size(), extra_size_);
     EmitContext context;
     context.seed = settings_.seed;
     context.batch_index = next_batch_;
@@ -56,13 +53,20 @@ void MapElitesSearch::step() {
     context.genome_bounds = &genome_bounds_;
     context.start = settings_.start.get();
     context.streams = settings_.streams;
-    results_.assign(batch_.count, InsertResult{});
-    placements_.resize(batch_.count);
+    const std::size_t g = archive_.genome_size(), d = archive_.descriptor_size();
     if (evaluate_range_ && emitter_->makes_candidates_independently() &&
-        remaining >= batch_.count) {
+        remaining >= settings_.batch) {
+      // Every slot is written below (results cleared chunk by chunk on the pass's threads).
+      batch_.reshape(settings_.batch, g, d, extra_size_);
+      results_.resize(batch_.count);
+      placements_.resize(batch_.count);
       make_evaluate_place(context);
       placed = true;
     } else {
+      // The whole batch is drawn even when the budget ends inside it, so that a later resume
+      // can evaluate the rest exactly as one run of the larger budget would have.
+      batch_.resize(settings_.batch, g, d, extra_size_);
+      results_.assign(batch_.count, InsertResult{});
       emitter_->ask(archive_, context, batch_);
     }
   }
@@ -126,6 +130,7 @@ void MapElitesSearch::make_evaluate_place(const EmitContext& context) {
   tbb::parallel_for(tbb::blocked_range<std::size_t>(0, batch_.count, kPassChunk),
                     [&](const tbb::blocked_range<std::size_t>& range) {
                       emitter_->ask_range(archive_, context, batch_, range.begin(), range.size());
+                      batch_.clear_results(range.begin(), range.size());
                       evaluate_range_(batch_, range.begin(), range.size());
                       place_range(range.begin(), range.size());
                     });
