@@ -75,6 +75,37 @@ double jitter(std::size_t i) {
 
 }  // namespace
 
+std::vector<Bracket> stack_brackets(const MeasureComparison& m, double alpha) {
+  const auto index_of = [&](const std::string& group) {
+    for (std::size_t g = 0; g < m.groups.size(); ++g)
+      if (m.groups[g].group == group) return g;
+    return std::size_t{0};
+  };
+  std::vector<Bracket> out;
+  for (const PairComparison& p : m.pairs) {
+    if (significance_stars(p.p_holm, alpha).empty()) continue;
+    const std::size_t ia = index_of(p.a), ib = index_of(p.b);
+    out.push_back({&p, std::min(ia, ib), std::max(ia, ib), 0});
+  }
+  // Narrowest first, each on the lowest level where it shares no group column with a bracket
+  // already there (brackets that share an end would draw their ticks on top of each other).
+  std::stable_sort(out.begin(), out.end(), [](const Bracket& x, const Bracket& y) {
+    return x.right - x.left < y.right - y.left;
+  });
+  for (std::size_t i = 0; i < out.size(); ++i) {
+    for (std::size_t level = 0;; ++level) {
+      bool free = true;
+      for (std::size_t j = 0; j < i && free; ++j)
+        free = out[j].level != level || out[j].right < out[i].left || out[i].right < out[j].left;
+      if (free) {
+        out[i].level = level;
+        break;
+      }
+    }
+  }
+  return out;
+}
+
 std::string significance_stars(double p_holm, double alpha) {
   if (std::isnan(p_holm) || !(p_holm < alpha)) return "";
   if (p_holm < 0.001) return "***";
@@ -84,14 +115,14 @@ std::string significance_stars(double p_holm, double alpha) {
 
 Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
   const std::size_t k = m.groups.size();
-  std::vector<const PairComparison*> significant;
-  for (const PairComparison& p : m.pairs)
-    if (!significance_stars(p.p_holm, alpha).empty()) significant.push_back(&p);
+  const std::vector<Bracket> brackets = stack_brackets(m, alpha);
+  std::size_t levels = 0;
+  for (const Bracket& b : brackets) levels = std::max(levels, b.level + 1);
   // Success bars carry their "k/n" label just above the bar, up to the top of the axes: the
   // brackets start above it.
   const double bracket_base = m.binary ? 22.0 : 6.0;
-  const double bracket_space = 16.0 * static_cast<double>(significant.size()) +
-                               (significant.empty() ? 0.0 : bracket_base - 6.0);
+  const double bracket_space =
+      16.0 * static_cast<double>(levels) + (brackets.empty() ? 0.0 : bracket_base - 6.0);
   // Each group's slot is wide enough for its label at full size with a gap to the next.
   double slot = 90.0;
   for (const GroupSummary& g : m.groups) slot = std::max(slot, canvas_text_width(g.group, 12) + 16);
@@ -152,32 +183,13 @@ Canvas box_plot_chart(const MeasureComparison& m, double alpha) {
     for (std::size_t i = 0; i < s.values.size(); ++i)
       c.circle(x + jitter(i) * half * 1.4, a.py(s.values[i]), 3, colour, s.censored[i]);
   }
-  // Brackets, the narrowest pairs lowest.
-  std::stable_sort(significant.begin(), significant.end(),
-                   [&](const PairComparison* p, const PairComparison* q) {
-                     const auto span = [&](const PairComparison* r) {
-                       std::size_t ia = 0, ib = 0;
-                       for (std::size_t g = 0; g < k; ++g) {
-                         if (m.groups[g].group == r->a) ia = g;
-                         if (m.groups[g].group == r->b) ib = g;
-                       }
-                       return ib > ia ? ib - ia : ia - ib;
-                     };
-                     return span(p) < span(q);
-                   });
-  for (std::size_t level = 0; level < significant.size(); ++level) {
-    const PairComparison& p = *significant[level];
-    std::size_t ia = 0, ib = 0;
-    for (std::size_t g = 0; g < k; ++g) {
-      if (m.groups[g].group == p.a) ia = g;
-      if (m.groups[g].group == p.b) ib = g;
-    }
-    const double y = a.top - bracket_base - 16.0 * static_cast<double>(level);
-    const double xa = centre(ia), xb = centre(ib);
+  for (const Bracket& b : brackets) {
+    const double y = a.top - bracket_base - 16.0 * static_cast<double>(b.level);
+    const double xa = centre(b.left), xb = centre(b.right);
     c.line(xa, y + 5, xa, y, kInk, 1);
     c.line(xa, y, xb, y, kInk, 1);
     c.line(xb, y, xb, y + 5, kInk, 1);
-    c.text((xa + xb) / 2, y - 2, significance_stars(p.p_holm, alpha), 12, TextAnchor::middle);
+    c.text((xa + xb) / 2, y - 2, significance_stars(b.pair->p_holm, alpha), 12, TextAnchor::middle);
   }
   return c;
 }

@@ -5,6 +5,7 @@
 // measures (evaluations until each goal), the median per goal with quartile bands.
 #pragma once
 
+#include <cstddef>
 #include <string>
 #include <vector>
 
@@ -15,6 +16,15 @@ namespace tessera {
 
 // Stars of a Holm-adjusted p-value: "***" < 0.001, "**" < 0.01, "*" < alpha, else "".
 std::string significance_stars(double p_holm, double alpha);
+
+// A bracket over the pair of group columns `left` < `right`, drawn `level` steps above the box.
+struct Bracket {
+  const PairComparison* pair;
+  std::size_t left, right, level;
+};
+// The brackets of the significant pairs: narrowest lowest, pairs whose columns do not meet
+// sharing a level, so six groups need a handful of levels rather than one per pair.
+std::vector<Bracket> stack_brackets(const MeasureComparison& measure, double alpha);
 
 Canvas box_plot_chart(const MeasureComparison& measure, double alpha);
 

@@ -11,6 +11,7 @@
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
+#include <set>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -335,4 +336,39 @@ TEST_CASE("box plots: a measure without negative values gets no negative ticks")
     CHECK(text.substr(text.rfind('>') + 1).front() != '-');
   }
   CHECK(ticks >= 2);
+}
+
+TEST_CASE("box plots: brackets of pairs whose columns do not meet share a level") {
+  // Six groups 0..5 at well-separated values: all 15 pairs differ (Mann-Whitney U, 8 runs each,
+  // Holm-adjusted p well below 0.05 as scipy.stats.mannwhitneyu gives for full separation).
+  tessera::ObservationTable t;
+  const std::vector<std::string> groups = {"g0", "g1", "g2", "g3", "g4", "g5"};
+  for (std::size_t g = 0; g < groups.size(); ++g)
+    for (int i = 0; i < 8; ++i)
+      t.finals.push_back({groups[g], "s" + std::to_string(i), "area",
+                          10.0 * static_cast<double>(g) + 0.1 * i, false});
+  const tessera::ComparisonResult r = tessera::compare_groups(t, {});
+  const auto& m = r.measures.at(0);
+  const auto brackets = tessera::stack_brackets(m, 0.05);
+  REQUIRE(brackets.size() == 15);
+  std::size_t levels = 0;
+  for (std::size_t i = 0; i < brackets.size(); ++i) {
+    levels = std::max(levels, brackets[i].level + 1);
+    for (std::size_t j = 0; j < i; ++j)  // no two on one level meet or overlap
+      if (brackets[i].level == brackets[j].level)
+        CHECK((brackets[i].right < brackets[j].left || brackets[j].right < brackets[i].left));
+  }
+  // The fewest possible: the 11 pairs whose columns include column 2 (left 0..2, right 2..5)
+  // all meet there, so they need 11 levels; every other pair fits beside them (one level per
+  // pair would be 15).
+  CHECK(levels == 11);
+  // The chart draws each bracket at its level: distinct bracket heights = levels.
+  const std::string svg = tessera::box_plot_chart(m, 0.05).svg("area");
+  std::set<double> heights;
+  for (const std::string& line : svg_elements(svg, "line"))
+    if (line.find("stroke=\"#222222\"") != std::string::npos &&
+        svg_attribute(line, "y1") == svg_attribute(line, "y2") &&
+        svg_attribute(line, "x1") != svg_attribute(line, "x2"))
+      heights.insert(svg_attribute(line, "y1"));
+  CHECK(heights.size() == levels);
 }
