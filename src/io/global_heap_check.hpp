@@ -7,6 +7,7 @@
 // inside the file, is a fault.
 #pragma once
 
+#include <cstddef>
 #include <optional>
 #include <string>
 
@@ -14,6 +15,8 @@ namespace tessera {
 
 // The fault found in the global heap collections of the file at `path` ("global heap at byte
 // N: ..."), or std::nullopt. Unreadable files give std::nullopt: opening them reports that.
-std::optional<std::string> global_heap_fault(const std::string& path);
+// The file is searched `block_bytes` at a time (any size from 1 finds the same).
+std::optional<std::string> global_heap_fault(const std::string& path,
+                                             std::size_t block_bytes = std::size_t{8} << 20);
 
 }  // namespace tessera

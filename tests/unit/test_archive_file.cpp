@@ -27,6 +27,7 @@
 
 #include "core/base/errors.hpp"
 #include "io/archive_file.hpp"
+#include "io/global_heap_check.hpp"
 #include "support/sample_snapshot.hpp"
 
 using namespace tessera;
@@ -414,6 +415,14 @@ TEST_CASE("bad files are refused with one line naming the file and the fault", "
     std::memcpy(bytes.data() + second_size, &huge, 8);
     std::ofstream(path, std::ios::binary | std::ios::trunc) << bytes;
     require_refused(path, "global heap at byte " + std::to_string(heap));
+    // The search goes block by block: any block size finds the same fault, the signature
+    // straddling two blocks or not (sizes around the offset of the collection and tiny ones).
+    const auto fault = tessera::global_heap_fault(path);
+    REQUIRE(fault);
+    for (const std::size_t block : {std::size_t{1}, std::size_t{2}, std::size_t{3}, std::size_t{5},
+                                    heap, heap + 1, heap + 2, heap + 3, heap + 4, bytes.size()})
+      CHECK(tessera::global_heap_fault(path, block) == fault);
+    CHECK_FALSE(tessera::global_heap_fault(valid, 3));
   }
 
   SECTION("an archive whose root object header does not decode") {
