@@ -5,9 +5,12 @@
 that crash, hang past the timeout, answer garbage, NaN, unknown ids, errors and wrong genome
 digests at set rates, for --minutes, and is then stopped with SIGINT (it finishes the batch in
 flight and checkpoints). Meanwhile tessera's resident size is read from /proc every second.
-Then the same run is made, for the same number of evaluations, with workers that answer
-{"error": KIND} for exactly the genomes that faulted (faults are decided by the genome's
-digest), and the script checks:
+Alongside, the same run is made with workers that answer {"error": KIND} for exactly the
+genomes that fault (faults are decided by the genome's digest): it follows the faulty run's
+checkpoints (`tessera resume --evaluations` up to each checkpoint's count, then up to the
+faulty run's final count), so that the soak ends minutes, not half an hour, after --minutes.
+A run stopped and resumed equals the same run in one go (README, "Resuming"), so the chain of
+resumes stands for one well-behaved run over the same evaluations. The script checks:
   1. the elites (cells, genomes, births, fitness, descriptors) and the history are bit-identical
      between the two runs: the faults cost nothing but the evaluations that failed;
   2. the failures counted by kind in the faulty run (tessera inspect) equal the faults the
@@ -97,6 +100,53 @@ def elites_and_history(path):
     return out, evaluations
 
 
+def checkpoint_evaluations(path):
+    """Evaluations in the archive at `path` (a checkpoint replaced by rename), None if none yet."""
+    try:
+        with h5py.File(path, "r") as f:
+            return int(f.attrs["evaluations"])
+    except (OSError, KeyError):
+        return None
+
+
+class Follower:
+    """The well-behaved run, resumed up to the faulty run's latest checkpoint whenever idle."""
+
+    def __init__(self, tessera, toml, out):
+        self.tessera, self.toml, self.out = tessera, toml, out
+        self.archive = os.path.join(out, "archive.h5")
+        self.proc, self.budget, self.steps = None, 0, 0
+        self.seconds = 0.0
+
+    def busy(self):
+        if self.proc is None:
+            return False
+        if self.proc.poll() is None:
+            return True
+        _, err = self.proc.communicate()
+        self.seconds += time.time() - self.started
+        if self.proc.returncode != 0:
+            sys.exit(f"reference run to {self.budget} evaluations exited "
+                     f"{self.proc.returncode}: {err}")
+        self.proc = None
+        return False
+
+    def follow(self, target):
+        """Starts the next leg up to `target` evaluations if idle and behind; True if started."""
+        if target is None or target <= self.budget or self.busy():
+            return False
+        if self.budget == 0:
+            argv = [self.tessera, "illuminate", self.toml, "--out", self.out, "--quiet",
+                    "--force", "--evaluations", str(target)]
+        else:
+            argv = [self.tessera, "resume", self.archive, "--quiet", "--evaluations",
+                    str(target)]
+        self.budget, self.steps, self.started = target, self.steps + 1, time.time()
+        self.proc = subprocess.Popen(argv, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE,
+                                     text=True)
+        return True
+
+
 def failures(tessera, archive):
     text = subprocess.run([tessera, "inspect", archive, "--format", "json"], check=True,
                           capture_output=True, text=True).stdout
@@ -151,7 +201,13 @@ def main():
 
     sampler = threading.Thread(target=sample, daemon=True)
     sampler.start()
+    faulty_archive = os.path.join(faulty_out, "archive.h5")
+    reference_toml = os.path.join(work, "reference.toml")
+    run_file(reference_toml, "refuse", args.rates, args.workers, args.timeout, 10**12)
+    reference_out = os.path.join(work, "reference")
+    follower = Follower(args.tessera, reference_toml, reference_out)
     while proc.poll() is None and time.time() < stop_at:
+        follower.follow(checkpoint_evaluations(faulty_archive))
         time.sleep(0.5)
     if proc.poll() is None:
         proc.send_signal(signal.SIGINT)
@@ -174,14 +230,15 @@ def main():
     print(f"failures counted by tessera: {counted}", flush=True)
     print(f"faults the faulty workers logged (distinct ids): {injected}", flush=True)
 
-    # 2. the well-behaved run over the same number of evaluations
-    reference_toml = os.path.join(work, "reference.toml")
-    run_file(reference_toml, "refuse", args.rates, args.workers, args.timeout, evaluations)
-    reference_out = os.path.join(work, "reference")
+    # 2. the well-behaved run, finished up to the same number of evaluations
     start = time.time()
-    subprocess.run([args.tessera, "illuminate", reference_toml, "--out", reference_out,
-                    "--quiet", "--force"], check=True)
-    print(f"reference run: {(time.time() - start) / 60:.1f} min", flush=True)
+    while follower.busy():
+        time.sleep(0.5)
+    follower.follow(evaluations)
+    while follower.busy():
+        time.sleep(0.5)
+    print(f"reference run: {follower.seconds / 60:.1f} min running in {follower.steps} legs, "
+          f"{(time.time() - start) / 60:.1f} min after the faulty run ended", flush=True)
     reference, reference_evaluations = elites_and_history(
         os.path.join(reference_out, "archive.h5"))
     declined = logged_faults(os.path.join(reference_out, "workers.log"), distinct=False)

@@ -1,6 +1,7 @@
 #include "cli/study_runner.hpp"
 
 #include <fcntl.h>
+#include <sys/prctl.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -22,9 +23,11 @@ namespace {
 namespace fs = std::filesystem;
 
 volatile std::sig_atomic_t g_study_stop = 0;
+volatile std::sig_atomic_t g_stop_requests = 0;  // each is passed on: a second one stops at once
 
 void on_study_stop(int signal) {
   g_study_stop = signal;
+  g_stop_requests = g_stop_requests + 1;
 }
 
 enum class State { pending, running, done, failed };
@@ -43,14 +46,28 @@ void write_marker(const fs::path& path, const std::string& text) {
   out << text << "\n";
 }
 
-// Child: its own log, no MPI environment (a run is a plain single process), then exec.
+// Child: its own process group, dies with the study, its own log, no terminal input, no MPI
+// environment (a run is a plain single process), then exec.
 [[noreturn]] void exec_child(const std::string& exe, const std::vector<std::string>& args,
-                             const fs::path& log) {
+                             const fs::path& log, pid_t study) {
+  // Ctrl-C signals the terminal's whole process group: a run outside it gets the stop request
+  // once, from the study, and checkpoints; a second request would stop it at once.
+  ::setpgid(0, 0);
+  // A study killed outright cannot stop its runs; the kernel does, so that no run goes on
+  // writing into a folder the next call continues. Runs resume from their last checkpoint.
+  ::prctl(PR_SET_PDEATHSIG, SIGKILL);
+  if (::getppid() != study) std::_Exit(128 + SIGKILL);  // the study died before the prctl
   const int fd = ::open(log.c_str(), O_WRONLY | O_CREAT | O_APPEND, 0644);
   if (fd >= 0) {
     ::dup2(fd, STDOUT_FILENO);
     ::dup2(fd, STDERR_FILENO);
     ::close(fd);
+  }
+  // Outside the terminal's foreground group, reading it would stop the run (SIGTTIN).
+  const int none = ::open("/dev/null", O_RDONLY);
+  if (none >= 0) {
+    ::dup2(none, STDIN_FILENO);
+    ::close(none);
   }
   std::vector<std::string> drop;
   for (char** e = environ; *e; ++e) {
@@ -120,6 +137,8 @@ RunnerResult run_jobs(const StudyPlan& plan, const std::vector<std::size_t>& sel
   struct sigaction stop {};
   stop.sa_handler = on_study_stop;
   sigemptyset(&stop.sa_mask);
+  sigaddset(&stop.sa_mask, SIGINT);  // one handler at a time: no request is lost
+  sigaddset(&stop.sa_mask, SIGTERM);
   struct sigaction old_int {
   }, old_term{};
   sigaction(SIGINT, &stop, &old_int);
@@ -129,7 +148,7 @@ RunnerResult run_jobs(const StudyPlan& plan, const std::vector<std::size_t>& sel
   StudyProgress progress(!options.quiet && tty, selected.size());
   std::map<pid_t, std::size_t> running;
   std::size_t done = result.skipped, failed = 0;
-  bool forwarded = false;  // the stop signal, to runs already started
+  std::sig_atomic_t forwarded = 0;  // stop requests passed on to the runs already started
   const auto start = std::chrono::steady_clock::now();
   auto elapsed = [&] {
     return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
@@ -192,8 +211,10 @@ RunnerResult run_jobs(const StudyPlan& plan, const std::vector<std::size_t>& sel
           }
         }
         args.insert(args.end(), {"--threads", std::to_string(options.threads), "--quiet"});
+        const pid_t study = ::getpid();
         const pid_t pid = ::fork();
-        if (pid == 0) exec_child(exe, args, job.dir / "log.txt");
+        if (pid == 0) exec_child(exe, args, job.dir / "log.txt", study);
+        if (pid > 0) ::setpgid(pid, pid);  // also here: no signal may find it in the old group
         if (pid < 0) {
           fail(j, std::string("cannot start a process: ") + std::strerror(errno));
           continue;
@@ -210,10 +231,8 @@ RunnerResult run_jobs(const StudyPlan& plan, const std::vector<std::size_t>& sel
     int status = 0;
     const pid_t pid = ::waitpid(-1, &status, WNOHANG);
     if (pid <= 0) {
-      if (g_study_stop != 0 && !forwarded) {
+      for (; forwarded < g_stop_requests; ++forwarded)
         for (const auto& [child, j] : running) ::kill(child, g_study_stop);
-        forwarded = true;
-      }
       std::this_thread::sleep_for(std::chrono::milliseconds(100));
       continue;
     }

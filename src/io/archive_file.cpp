@@ -5,7 +5,6 @@
 
 #include <fcntl.h>
 #include <hdf5.h>
-#include <signal.h>
 #include <unistd.h>
 
 #include <tbb/parallel_for.h>
@@ -30,6 +29,7 @@
 #include "io/fletcher32.hpp"
 #include "io/global_heap_check.hpp"
 #include "io/snapshot_check.hpp"
+#include "io/temporary_files.hpp"
 
 namespace tessera {
 namespace {
@@ -416,35 +416,6 @@ void sync_folder(const std::filesystem::path& p) {
   if (fd < 0) return;
   (void)::fsync(fd);
   ::close(fd);
-}
-
-// Name of this machine, for temporary file names: on a shared file system a process id alone
-// does not say whose file it is.
-std::string host_name() {
-  char name[256] = {0};
-  if (::gethostname(name, sizeof name - 1) != 0 || name[0] == 0) return "host";
-  std::string out = name;
-  std::replace(out.begin(), out.end(), '/', '_');
-  return out;
-}
-
-// A writer killed mid-write (kill -9, power cut) leaves its temporary file behind; remove those
-// of this machine whose process is gone, so that they do not pile up beside long runs.
-void remove_stale_temporaries(const std::filesystem::path& folder, const std::string& prefix) {
-  std::error_code ec;
-  for (const auto& entry : std::filesystem::directory_iterator(folder, ec)) {
-    const std::string name = entry.path().filename().string();
-    if (name.rfind(prefix, 0) != 0) continue;
-    const std::string digits = name.substr(prefix.size());
-    if (digits.empty() || digits.size() > 9 ||
-        digits.find_first_not_of("0123456789") != std::string::npos)
-      continue;
-    const pid_t pid = static_cast<pid_t>(std::stol(digits));
-    if (pid > 0 && ::kill(pid, 0) != 0 && errno == ESRCH) {
-      std::error_code ignored;
-      std::filesystem::remove(entry.path(), ignored);
-    }
-  }
 }
 
 // ---------------------------------------------------------------------------------- reading
@@ -1109,9 +1080,8 @@ void write_archive_file(const std::string& path, const ArchiveSnapshot& snapshot
   const fs::path target(path);
   if (target.filename().empty()) throw InputError(path + ": cannot write archive: not a file name");
   const fs::path folder = target.has_parent_path() ? target.parent_path() : fs::path(".");
-  const std::string temp_prefix = "." + target.filename().string() + ".tmp-" + host_name() + "-";
-  const fs::path temp = folder / (temp_prefix + std::to_string(::getpid()));
-  remove_stale_temporaries(folder, temp_prefix);
+  const fs::path temp = temporary_path(target);
+  remove_stale_temporaries(target);
 
   std::lock_guard<std::mutex> lock(hdf5_mutex());
   H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);  // errors come back as one line, never printed

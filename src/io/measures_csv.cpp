@@ -1,6 +1,5 @@
 #include "io/measures_csv.hpp"
 
-#include <unistd.h>
 #include <charconv>
 #include <cmath>
 #include <filesystem>
@@ -9,6 +8,7 @@
 
 #include "core/base/errors.hpp"
 #include "io/table_output.hpp"
+#include "io/temporary_files.hpp"
 
 namespace tessera {
 namespace {
@@ -63,8 +63,8 @@ void write_measures_csv(const std::string& path, const std::vector<Observation>&
   }
   namespace fs = std::filesystem;
   const fs::path target(path);
-  const fs::path temp = target.parent_path() /
-                        ("." + target.filename().string() + ".tmp-" + std::to_string(getpid()));
+  const fs::path temp = temporary_path(target);
+  remove_stale_temporaries(target);  // left by a study killed while writing the file
   {
     std::ofstream out(temp, std::ios::binary | std::ios::trunc);
     out << text.str();

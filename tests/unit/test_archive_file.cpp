@@ -798,3 +798,29 @@ TEST_CASE("kill -9 during a write leaves the previous or the new archive", "[arc
   write_archive_file(path, snap_b);
   CHECK(dir.listing() == std::set<std::string>{"checkpoint.h5"});
 }
+
+TEST_CASE("the next write clears the temporary file of a killed writer not yet collected",
+          "[archive_file]") {
+  // A run killed mid-write whose parent is gone too is an orphan; a container's init may never
+  // collect it, and it stays a zombie (proc(5): state Z) whose process id still answers kill(0).
+  // It writes nothing any more: its temporary file is stale like a dead writer's.
+  TempDir dir;
+  const std::string path = dir.file("checkpoint.h5");
+  const pid_t zombie = ::fork();
+  REQUIRE(zombie >= 0);
+  if (zombie == 0) std::_Exit(0);
+  for (int i = 0; i < 5000; ++i) {  // exited, not yet collected
+    siginfo_t info{};
+    if (::waitid(P_PID, static_cast<id_t>(zombie), &info, WEXITED | WNOHANG | WNOWAIT) == 0 &&
+        info.si_pid == zombie)
+      break;
+    std::this_thread::sleep_for(std::chrono::milliseconds(1));
+  }
+  char host[256] = {0};
+  ::gethostname(host, sizeof host - 1);
+  std::ofstream(dir.file(".checkpoint.h5.tmp-" + std::string(host) + "-" + std::to_string(zombie)))
+      << "half an archive";
+  write_archive_file(path, sample_snapshot({}));
+  ::waitpid(zombie, nullptr, 0);
+  CHECK(dir.listing() == std::set<std::string>{"checkpoint.h5"});
+}

@@ -1,6 +1,7 @@
 // measures.csv: what is written reads back the same (RFC 4180 quoting, missing values, censored
 // flags, doubles to the last bit), and malformed files are refused in one line naming the file
 // and the line.
+#include <sys/wait.h>
 #include <unistd.h>
 
 #include <catch2/catch.hpp>
@@ -57,6 +58,44 @@ TEST_CASE("measures.csv round trip") {
     CHECK(back[i].value == rows[i].value);  // bit-identical or both missing
     CHECK(back[i].censored == rows[i].censored);
   }
+}
+
+TEST_CASE("measures.csv: a temporary file left by a killed writer is removed by the next one") {
+  // A study killed while writing measures.csv leaves its temporary file behind; a process of
+  // this machine that is gone cannot be writing it any more, one that is alive may be. A killed
+  // writer whose parent has not collected it yet (a zombie: under a container's init that
+  // never reaps, for ever) is gone too (proc(5): state Z).
+  const fs::path dir = temp_file("-stale");
+  fs::create_directories(dir);
+  const pid_t reaped = ::fork();
+  if (reaped == 0) std::_Exit(0);
+  REQUIRE(reaped > 0);
+  ::waitpid(reaped, nullptr, 0);  // its process id names no process now
+  const pid_t zombie = ::fork();
+  if (zombie == 0) std::_Exit(0);
+  REQUIRE(zombie > 0);
+  for (int i = 0; i < 5000; ++i) {  // exited, not yet collected
+    siginfo_t info{};
+    if (::waitid(P_PID, static_cast<id_t>(zombie), &info, WEXITED | WNOHANG | WNOWAIT) == 0 &&
+        info.si_pid == zombie)
+      break;
+    ::usleep(1000);
+  }
+  char host[256] = {0};
+  ::gethostname(host, sizeof host - 1);
+  const std::string prefix = ".measures.csv.tmp-" + std::string(host) + "-";
+  const fs::path dead = dir / (prefix + std::to_string(reaped));
+  const fs::path undead = dir / (prefix + std::to_string(zombie));
+  const fs::path live = dir / (prefix + std::to_string(::getppid()));
+  for (const auto& p : {dead, undead}) std::ofstream(p) << "group,run,measure,value,censored\nhalf";
+  std::ofstream(live) << "group,run,measure,value,censored\n";
+  write_measures_csv((dir / "measures.csv").string(), {{"a", "seed-1", "coverage", 0.5, false}});
+  ::waitpid(zombie, nullptr, 0);
+  CHECK_FALSE(fs::exists(dead));
+  CHECK_FALSE(fs::exists(undead));
+  CHECK(fs::exists(live));
+  CHECK(read_measures_csv((dir / "measures.csv").string()).size() == 1);
+  fs::remove_all(dir);
 }
 
 TEST_CASE("measures.csv refusals name the file and the line") {
