@@ -14,7 +14,8 @@ import signal
 import subprocess
 import time
 import h5py
-from tessera_test_util import TESSERA, run, problem, tempdir, read_archive, assert_same_run
+from tessera_test_util import (TESSERA, assert_same_run, problem, read_archive, run, tempdir,
+                               wait_for_handler)
 
 work = tempdir()
 rng = random.Random()
@@ -34,19 +35,6 @@ run("illuminate", problem("arm.toml"), "--out", whole, "-n", budget, *extra)
 span = 0.9 * (time.perf_counter() - started)
 print(f"uninterrupted run: {span / 0.9:.2f} s; moments drawn in [0, {span:.2f}] s")
 expected = read_archive(os.path.join(whole, "archive.h5"))
-
-
-def wait_for_handler(proc):
-    deadline = time.time() + 60
-    while time.time() < deadline and proc.poll() is None:
-        try:
-            with open(f"/proc/{proc.pid}/status") as status:
-                caught = int(next(l for l in status if l.startswith("SigCgt:")).split()[1], 16)
-        except OSError:
-            return
-        if caught & (1 << (signal.SIGINT - 1)):
-            return
-        time.sleep(0.002)
 
 
 def temporaries(folder):

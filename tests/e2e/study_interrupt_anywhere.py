@@ -25,7 +25,8 @@ import signal
 import subprocess
 import time
 
-from tessera_test_util import TESSERA, SOURCE, run, tempdir, read_archive, assert_same_run
+from tessera_test_util import (TESSERA, SOURCE, alive, assert_same_run, children, read_archive,
+                               run, tempdir, wait_for_handler)
 
 work = tempdir()
 rng = random.Random()
@@ -77,40 +78,6 @@ def temporaries(out):
         found += [os.path.join(folder, n) for n in files
                   if ".tmp-" in n or n.startswith("study-plan.txt.")]
     return found
-
-
-def children(pid):
-    """The study's run processes (Linux /proc/PID/task/TID/children)."""
-    kids = []
-    try:
-        for tid in os.listdir(f"/proc/{pid}/task"):
-            with open(f"/proc/{pid}/task/{tid}/children") as f:
-                kids += [int(k) for k in f.read().split()]
-    except OSError:
-        pass
-    return kids
-
-
-def alive(pid):
-    try:
-        with open(f"/proc/{pid}/stat") as f:
-            return f.read().split(")")[-1].split()[0] != "Z"
-    except OSError:
-        return False
-
-
-def wait_for_handler(proc):
-    """The study catches SIGINT once it starts its runs: a moment counts from there."""
-    deadline = time.time() + 60
-    while time.time() < deadline and proc.poll() is None:
-        try:
-            with open(f"/proc/{proc.pid}/status") as status:
-                caught = int(next(l for l in status if l.startswith("SigCgt:")).split()[1], 16)
-        except OSError:
-            return
-        if caught & (1 << (signal.SIGINT - 1)):
-            return
-        time.sleep(0.002)
 
 
 def phase(out, kids):

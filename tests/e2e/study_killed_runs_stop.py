@@ -8,43 +8,14 @@ import signal
 import subprocess
 import time
 
-from tessera_test_util import TESSERA, SOURCE, tempdir
+from tessera_test_util import TESSERA, alive, children, tempdir, write_long_study
 
 work = tempdir()
 study = os.path.join(work, "long.toml")
-with open(study, "w") as f:
-    # One run far longer than the test: it is in flight whenever the study is killed.
-    f.write(f"""[study]
-name = "long"
-replicates = 1
-
-[[treatment]]
-label = "arm"
-run = "{os.path.join(SOURCE, "problems", "arm.toml")}"
-set = {{ search.evaluations = 1000000000, search.batch = 500, checkpoint.every_evaluations = 5000 }}
-
-[[measure]]
-kind = "final"
-figures = ["coverage"]
-""")
+# One run far longer than the test: it is in flight whenever the study is killed.
+write_long_study(study, "search.batch = 500, checkpoint.every_evaluations = 5000")
 out = os.path.join(work, "out")
 archive = os.path.join(out, "runs", "arm", "seed-1", "archive.h5")
-
-
-def children(pid):
-    kids = []
-    for tid in os.listdir(f"/proc/{pid}/task"):
-        with open(f"/proc/{pid}/task/{tid}/children") as f:
-            kids += [int(k) for k in f.read().split()]
-    return kids
-
-
-def alive(pid):
-    try:
-        with open(f"/proc/{pid}/stat") as f:
-            return f.read().split(")")[-1].split()[0] != "Z"
-    except OSError:
-        return False
 
 
 def kill_and_check(extra):

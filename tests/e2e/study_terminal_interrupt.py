@@ -10,43 +10,13 @@ import subprocess
 import time
 
 import h5py
-from tessera_test_util import TESSERA, SOURCE, tempdir
+from tessera_test_util import TESSERA, catches_sigint, children, tempdir, write_long_study
 
 work = tempdir()
 study = os.path.join(work, "long.toml")
-with open(study, "w") as f:
-    f.write(f"""[study]
-name = "long"
-replicates = 1
-
-[[treatment]]
-label = "arm"
-run = "{os.path.join(SOURCE, "problems", "arm.toml")}"
-set = {{ search.evaluations = 1000000000, search.batch = 200000, checkpoint.every_seconds = 3600 }}
-
-[[measure]]
-kind = "final"
-figures = ["coverage"]
-""")
+write_long_study(study, "search.batch = 200000, checkpoint.every_seconds = 3600")
 out = os.path.join(work, "out")
 run_folder = os.path.join(out, "runs", "arm", "seed-1")
-
-
-def catches_sigint(pid):
-    try:
-        with open(f"/proc/{pid}/status") as status:
-            caught = int(next(l for l in status if l.startswith("SigCgt:")).split()[1], 16)
-        return bool(caught & (1 << (signal.SIGINT - 1)))
-    except OSError:
-        return False
-
-
-def children(pid):
-    kids = []
-    for tid in os.listdir(f"/proc/{pid}/task"):
-        with open(f"/proc/{pid}/task/{tid}/children") as f:
-            kids += [int(k) for k in f.read().split()]
-    return kids
 
 
 # Its own session stands for the terminal's foreground process group.

@@ -1,8 +1,10 @@
 """Helpers shared by the end-to-end tests: run the real tessera executable on real files."""
 import os
+import signal
 import subprocess
 import sys
 import tempfile
+import time
 
 TESSERA = os.environ.get("TESSERA", "tessera")
 SOURCE = os.environ.get("TESSERA_SOURCE_DIR", os.path.abspath(os.path.join(os.path.dirname(__file__), "..", "..")))
@@ -98,3 +100,60 @@ def point_arena_layout_at_shipped(path):
         end = config.index("'", start)
         layout = os.path.join(SOURCE, "problems", "arenas", "open.txt")
         f.attrs["config"] = config[:start] + layout + config[end:]
+
+
+# Processes seen through Linux /proc, for the interruption tests.
+def catches_sigint(pid):
+    """True once the process has installed its SIGINT handler (SigCgt in /proc/PID/status)."""
+    try:
+        with open(f"/proc/{pid}/status") as status:
+            caught = int(next(l for l in status if l.startswith("SigCgt:")).split()[1], 16)
+        return bool(caught & (1 << (signal.SIGINT - 1)))
+    except OSError:
+        return False
+
+
+def wait_for_handler(proc, seconds=60):
+    """Waits until `proc` catches SIGINT (or ends): an interruption moment counts from there."""
+    deadline = time.time() + seconds
+    while time.time() < deadline and proc.poll() is None and not catches_sigint(proc.pid):
+        time.sleep(0.002)
+
+
+def children(pid):
+    """The child processes of `pid` (/proc/PID/task/TID/children); none once it is gone."""
+    kids = []
+    try:
+        for tid in os.listdir(f"/proc/{pid}/task"):
+            with open(f"/proc/{pid}/task/{tid}/children") as f:
+                kids += [int(k) for k in f.read().split()]
+    except OSError:
+        pass
+    return kids
+
+
+def alive(pid):
+    """True while the process exists and is not a zombie."""
+    try:
+        with open(f"/proc/{pid}/stat") as f:
+            return f.read().split(")")[-1].split()[0] != "Z"
+    except OSError:
+        return False
+
+
+def write_long_study(path, settings):
+    """A study of one arm run far longer than any test (`settings`: its `set` table, TOML)."""
+    with open(path, "w") as f:
+        f.write(f"""[study]
+name = "long"
+replicates = 1
+
+[[treatment]]
+label = "arm"
+run = "{os.path.join(SOURCE, "problems", "arm.toml")}"
+set = {{ search.evaluations = 1000000000, {settings} }}
+
+[[measure]]
+kind = "final"
+figures = ["coverage"]
+""")
