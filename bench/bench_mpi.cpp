@@ -4,7 +4,6 @@
 // alone (two evaluator ranks x 1 thread against 2 threads in one process); (2) for a problem
 // with 10 ms evaluations, the efficiency of 2 evaluator ranks against 1; (3) a projection to 64
 // and 1024 ranks from a stated model with the measured message overhead. Medians of repeats.
-#include <mpi.h>
 
 #include <tbb/global_control.h>
 
@@ -13,6 +12,7 @@
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
+#include <exception>
 #include <vector>
 
 #include "core/search/map_elites.hpp"
@@ -64,7 +64,12 @@ double seconds_per_evaluation(const EvaluateFn& evaluate, const ProblemInfo& inf
 
 int main(int argc, char** argv) {
   setenv("TESSERA_PLUGIN_PATH", TESSERA_PLUGIN_DIR ":" TESSERA_TEST_PLUGIN_DIR, 0);
-  cluster::init(&argc, &argv);
+  try {
+    cluster::init(&argc, &argv);
+  } catch (const std::exception& e) {
+    std::fprintf(stderr, "bench_mpi: %s\n", e.what());
+    return 1;
+  }
   if (!cluster::active()) {
     std::fprintf(stderr, "run under mpirun with at least 3 ranks: mpirun -n 3 %s\n", argv[0]);
     return 2;

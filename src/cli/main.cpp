@@ -28,7 +28,12 @@ int main(int argc, char** argv) {
   // start-up installs handlers and threads of its own: stop signals wait (blocked) meanwhile and
   // reach ours afterwards.
   if (checkpoints) tessera::cli::hold_stop_signals(true);
-  tessera::cluster::init(&argc, &argv);
+  try {
+    tessera::cluster::init(&argc, &argv);
+  } catch (const std::exception& e) {
+    std::cerr << "tessera: " << e.what() << '\n';
+    return 1;
+  }
   if (checkpoints) {
     tessera::cli::install_stop_handlers();
     tessera::cli::hold_stop_signals(false);

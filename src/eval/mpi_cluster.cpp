@@ -1,17 +1,21 @@
-// MPI implementation of cluster.hpp (built only when CMake finds MPI).
-#include <mpi.h>
+// The cluster evaluator of cluster.hpp over MPI (built when CMake finds MPI). The MPI calls go
+// through the transport table of the tessera-mpi module, loaded when a launcher started the
+// process (mpi_transport.hpp says why).
+#include <dlfcn.h>
 
 #include <algorithm>
 #include <csignal>
 #include <cstdlib>
 #include <cstring>
 #include <deque>
-#include <iostream>
+#include <filesystem>
 #include <stdexcept>
+#include <utility>
 #include <vector>
 
 #include "core/base/errors.hpp"
 #include "eval/cluster.hpp"
+#include "eval/mpi_transport.hpp"
 #include "eval/thread_evaluator.hpp"
 
 namespace tessera::cluster {
@@ -21,6 +25,7 @@ enum Tag : int { kSetup = 1, kWork = 2, kResult = 3, kStop = 4, kFailure = 5 };
 
 bool g_initialised = false;
 bool g_finished = false;
+const MpiTransport* g_mpi = nullptr;
 
 bool launched_by_mpirun() {
   for (const char* var : {"OMPI_COMM_WORLD_SIZE", "PMI_SIZE", "PMIX_RANK", "SLURM_PROCID"})
@@ -28,19 +33,79 @@ bool launched_by_mpirun() {
   return false;
 }
 
-std::string receive_string(int source, int tag, MPI_Status* status_out = nullptr) {
-  MPI_Status status;
-  MPI_Probe(source, tag, MPI_COMM_WORLD, &status);
-  int count = 0;
-  MPI_Get_count(&status, MPI_CHAR, &count);
-  std::string text(static_cast<std::size_t>(count), '\0');
-  MPI_Recv(text.data(), count, MPI_CHAR, status.MPI_SOURCE, tag, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
-  if (status_out) *status_out = status;
+// Where the module may be: beside the executable (build tree), in the installed layout relative
+// to it, then the absolute build and install paths (for programs elsewhere, such as the benches).
+std::vector<std::filesystem::path> module_candidates() {
+  namespace fs = std::filesystem;
+  std::vector<fs::path> out;
+  std::error_code ec;
+  const fs::path exe = fs::read_symlink("/proc/self/exe", ec);
+  if (!ec) {
+    out.push_back(exe.parent_path() / "tessera-mpi.so");
+    out.push_back(
+        (exe.parent_path() / ".." / "lib" / "tessera" / "tessera-mpi.so").lexically_normal());
+  }
+#ifdef TESSERA_MPI_MODULE_BUILD_PATH
+  out.emplace_back(TESSERA_MPI_MODULE_BUILD_PATH);
+#endif
+#ifdef TESSERA_MPI_MODULE_INSTALL_PATH
+  out.emplace_back(TESSERA_MPI_MODULE_INSTALL_PATH);
+#endif
+  std::vector<fs::path> unique;
+  for (const auto& path : out)
+    if (std::find(unique.begin(), unique.end(), path) == unique.end()) unique.push_back(path);
+  return unique;
+}
+
+const MpiTransport* load_transport() {
+  std::string tried;
+  for (const auto& path : module_candidates()) {
+    std::error_code ec;
+    if (!std::filesystem::is_regular_file(path, ec)) {
+      tried += (tried.empty() ? "" : ", ") + path.string();
+      continue;
+    }
+    // RTLD_GLOBAL: Open MPI's own components, loaded later, look for libmpi's symbols globally.
+    void* module = ::dlopen(path.c_str(), RTLD_NOW | RTLD_GLOBAL);
+    if (!module)
+      throw std::runtime_error("cannot load the MPI module " + path.string() + ": " + ::dlerror());
+    auto* entry =
+        reinterpret_cast<const MpiTransport* (*)()>(::dlsym(module, "tessera_mpi_transport"));
+    const MpiTransport* transport = entry ? entry() : nullptr;
+    if (!transport || transport->version != kMpiTransportVersion)
+      throw std::runtime_error(path.string() +
+                               " is not this tessera's MPI module (another build?)");
+    return transport;
+  }
+  throw std::runtime_error(
+      "started by an MPI launcher, but no MPI module tessera-mpi.so was found (looked at " + tried +
+      ")");
+}
+
+std::string receive_string(int source, int tag) {
+  int found_source = 0, found_tag = 0;
+  std::size_t bytes = 0;
+  g_mpi->probe(source, tag, &found_source, &found_tag, &bytes);
+  std::string text(bytes, '\0');
+  g_mpi->receive(text.data(), bytes, found_source, tag);
   return text;
 }
 
 void send_string(const std::string& text, int dest, int tag) {
-  MPI_Send(text.data(), static_cast<int>(text.size()), MPI_CHAR, dest, tag, MPI_COMM_WORLD);
+  g_mpi->send(text.data(), text.size(), dest, tag);
+}
+
+void send_doubles(const std::vector<double>& values, int dest, int tag) {
+  g_mpi->send(values.data(), values.size() * sizeof(double), dest, tag);
+}
+
+// Receives a message of doubles already probed (its size in bytes known).
+void receive_doubles(std::vector<double>& values, std::size_t bytes, int source, int tag) {
+  if (bytes % sizeof(double) != 0)
+    throw std::runtime_error("a message of " + std::to_string(bytes) + " bytes from rank " +
+                             std::to_string(source) + " is not a whole number of doubles");
+  values.resize(bytes / sizeof(double));
+  g_mpi->receive(values.data(), bytes, source, tag);
 }
 
 // Setup travels as four fields separated by NUL characters.
@@ -80,25 +145,19 @@ struct Layout {
 
 void init(int* argc, char*** argv) {
   if (!launched_by_mpirun()) return;
-  int provided = 0;
-  MPI_Init_thread(argc, argv, MPI_THREAD_FUNNELED, &provided);
+  g_mpi = load_transport();
+  g_mpi->init(argc, argv);
   g_initialised = true;
 }
 
 bool built_with_mpi() { return true; }
 
 int rank() {
-  if (!g_initialised) return 0;
-  int r = 0;
-  MPI_Comm_rank(MPI_COMM_WORLD, &r);
-  return r;
+  return g_initialised ? g_mpi->rank() : 0;
 }
 
 int size() {
-  if (!g_initialised) return 1;
-  int s = 1;
-  MPI_Comm_size(MPI_COMM_WORLD, &s);
-  return s;
+  return g_initialised ? g_mpi->size() : 1;
 }
 
 bool active() { return g_initialised && size() > 1; }
@@ -112,13 +171,14 @@ int serve(const ProblemOpener& open) {
   std::vector<double> buffer, reply;
   Batch batch;
   for (;;) {
-    MPI_Status status;
-    MPI_Probe(0, MPI_ANY_TAG, MPI_COMM_WORLD, &status);
-    if (status.MPI_TAG == kStop) {
-      MPI_Recv(nullptr, 0, MPI_CHAR, 0, kStop, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
+    int source = 0, tag = 0;
+    std::size_t bytes = 0;
+    g_mpi->probe(0, kAnyTag, &source, &tag, &bytes);
+    if (tag == kStop) {
+      g_mpi->receive(nullptr, 0, 0, kStop);
       break;
     }
-    if (status.MPI_TAG == kSetup) {
+    if (tag == kSetup) {
       const WorkerSetup setup = unpack_setup(receive_string(0, kSetup));
       try {
         auto problem = open(setup);
@@ -130,10 +190,7 @@ int serve(const ProblemOpener& open) {
       }
       continue;
     }
-    int count = 0;
-    MPI_Get_count(&status, MPI_DOUBLE, &count);
-    buffer.resize(static_cast<std::size_t>(count));
-    MPI_Recv(buffer.data(), count, MPI_DOUBLE, 0, kWork, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
+    receive_doubles(buffer, bytes, 0, kWork);
     if (!evaluator) continue;  // setup failed; the coordinator already knows
     const auto first = static_cast<std::size_t>(buffer[0]);
     const auto n = static_cast<std::size_t>(buffer[1]);
@@ -154,9 +211,9 @@ int serve(const ProblemOpener& open) {
     out = std::copy(batch.descriptors.begin(), batch.descriptors.end(), out);
     for (unsigned char v : batch.valid) *out++ = v;
     std::copy(batch.extras.begin(), batch.extras.end(), out);
-    MPI_Send(reply.data(), static_cast<int>(reply.size()), MPI_DOUBLE, 0, kResult, MPI_COMM_WORLD);
+    send_doubles(reply, 0, kResult);
   }
-  MPI_Finalize();
+  g_mpi->finalize();
   g_finished = true;
   return 0;
 }
@@ -181,21 +238,21 @@ EvaluateFn distributed_evaluator(WorkerSetup setup, int evaluator_ranks) {
     for (std::size_t first = 0; first < batch.count; first += chunk) pending.push_back(first);
     const Layout layout{batch.genome_size, batch.descriptor_size, batch.extra_size};
     std::vector<std::vector<double>> outbox(static_cast<std::size_t>(ranks));
-    std::vector<MPI_Request> requests(static_cast<std::size_t>(ranks), MPI_REQUEST_NULL);
+    std::vector<void*> requests(static_cast<std::size_t>(ranks), nullptr);
     auto send_next = [&](int r) {
       if (pending.empty()) return false;
       const std::size_t first = pending.front();
       pending.pop_front();
       const std::size_t n = std::min(chunk, batch.count - first);
       auto& msg = outbox[static_cast<std::size_t>(r)];
-      MPI_Wait(&requests[static_cast<std::size_t>(r)], MPI_STATUS_IGNORE);
+      g_mpi->wait(std::exchange(requests[static_cast<std::size_t>(r)], nullptr));
       msg.resize(2 + n * layout.g);
       msg[0] = static_cast<double>(first);
       msg[1] = static_cast<double>(n);
       std::copy_n(batch.genomes.begin() + static_cast<std::ptrdiff_t>(first * layout.g), n * layout.g,
                   msg.begin() + 2);
-      MPI_Isend(msg.data(), static_cast<int>(msg.size()), MPI_DOUBLE, r, kWork, MPI_COMM_WORLD,
-                &requests[static_cast<std::size_t>(r)]);
+      requests[static_cast<std::size_t>(r)] =
+          g_mpi->send_async(msg.data(), msg.size() * sizeof(double), r, kWork);
       return true;
     };
     std::size_t in_flight = 0;
@@ -203,23 +260,19 @@ EvaluateFn distributed_evaluator(WorkerSetup setup, int evaluator_ranks) {
       if (send_next(r)) ++in_flight;
     std::vector<double> reply;
     while (in_flight > 0) {
-      MPI_Status status;
-      MPI_Probe(MPI_ANY_SOURCE, MPI_ANY_TAG, MPI_COMM_WORLD, &status);
-      if (status.MPI_TAG == kFailure) {
-        const std::string why = receive_string(status.MPI_SOURCE, kFailure);
+      int source = 0, tag = 0;
+      std::size_t bytes = 0;
+      g_mpi->probe(kAnySource, kAnyTag, &source, &tag, &bytes);
+      if (tag == kFailure) {
+        const std::string why = receive_string(source, kFailure);
         throw InputError("evaluator " + why);
       }
-      int count = 0;
-      MPI_Get_count(&status, MPI_DOUBLE, &count);
-      reply.resize(static_cast<std::size_t>(count));
-      MPI_Recv(reply.data(), count, MPI_DOUBLE, status.MPI_SOURCE, kResult, MPI_COMM_WORLD,
-               MPI_STATUS_IGNORE);
+      receive_doubles(reply, bytes, source, kResult);
       --in_flight;
       const auto first = static_cast<std::size_t>(reply[0]);
       const auto n = static_cast<std::size_t>(reply[1]);
       if (reply.size() != layout.result_size(n) || first + n > batch.count)
-        throw std::runtime_error("malformed result message from rank " +
-                                 std::to_string(status.MPI_SOURCE));
+        throw std::runtime_error("malformed result message from rank " + std::to_string(source));
       auto in = reply.begin() + 2;
       std::copy_n(in, n, batch.fitness.begin() + static_cast<std::ptrdiff_t>(first));
       in += static_cast<std::ptrdiff_t>(n);
@@ -228,9 +281,9 @@ EvaluateFn distributed_evaluator(WorkerSetup setup, int evaluator_ranks) {
       for (std::size_t i = 0; i < n; ++i) batch.valid[first + i] = in[static_cast<std::ptrdiff_t>(i)] != 0.0;
       in += static_cast<std::ptrdiff_t>(n);
       std::copy_n(in, n * layout.e, batch.extras.begin() + static_cast<std::ptrdiff_t>(first * layout.e));
-      if (send_next(status.MPI_SOURCE)) ++in_flight;
+      if (send_next(source)) ++in_flight;
     }
-    for (auto& request : requests) MPI_Wait(&request, MPI_STATUS_IGNORE);
+    for (auto& request : requests) g_mpi->wait(std::exchange(request, nullptr));
   };
 }
 
@@ -238,8 +291,8 @@ void finish() {
   if (!g_initialised || g_finished) return;
   g_finished = true;
   if (rank() == 0)
-    for (int r = 1; r < size(); ++r) MPI_Send(nullptr, 0, MPI_CHAR, r, kStop, MPI_COMM_WORLD);
-  MPI_Finalize();
+    for (int r = 1; r < size(); ++r) g_mpi->send(nullptr, 0, r, kStop);
+  g_mpi->finalize();
 }
 
 }  // namespace tessera::cluster
