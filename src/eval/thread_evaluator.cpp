@@ -26,26 +26,58 @@ ThreadEvaluator::ThreadEvaluator(std::shared_ptr<const Problem> problem, std::si
       static_cast<std::size_t>(tbb::this_task_arena::max_concurrency()),
       tbb::global_control::active_value(tbb::global_control::max_allowed_parallelism));
   if (caller != threads_) arena_ = std::make_unique<Arena>(static_cast<int>(threads_));
+  slot_count_ = std::max(caller, threads_);
+  slots_ = std::make_unique<Slot[]>(slot_count_);
 }
 
 ThreadEvaluator::~ThreadEvaluator() = default;
 
-std::unique_ptr<ProblemInstance> ThreadEvaluator::acquire() {
-  {
-    std::lock_guard lock(pool_mutex_);
-    if (!pool_.empty()) {
-      auto instance = std::move(pool_.back());
-      pool_.pop_back();
-      return instance;
+// An instance held for one call: the calling thread's slot, or one from the pool.
+class ThreadEvaluator::Lease {
+ public:
+  explicit Lease(ThreadEvaluator& owner) : owner_(owner) {
+    const int index = tbb::this_task_arena::current_thread_index();
+    if (index >= 0 && static_cast<std::size_t>(index) < owner_.slot_count_) {
+      Slot& slot = owner_.slots_[static_cast<std::size_t>(index)];
+      if (!slot.busy.exchange(true, std::memory_order_acquire)) {
+        if (!slot.instance) {
+          try {
+            slot.instance = owner_.problem_->make_instance();
+          } catch (...) {
+            slot.busy.store(false, std::memory_order_release);
+            throw;
+          }
+        }
+        slot_ = &slot;
+        return;
+      }
     }
+    {
+      std::lock_guard lock(owner_.pool_mutex_);
+      if (!owner_.pool_.empty()) {
+        pooled_ = std::move(owner_.pool_.back());
+        owner_.pool_.pop_back();
+      }
+    }
+    if (!pooled_) pooled_ = owner_.problem_->make_instance();
   }
-  return problem_->make_instance();
-}
+  ~Lease() {
+    if (slot_) {
+      slot_->busy.store(false, std::memory_order_release);
+      return;
+    }
+    std::lock_guard lock(owner_.pool_mutex_);
+    owner_.pool_.push_back(std::move(pooled_));
+  }
+  Lease(const Lease&) = delete;
+  Lease& operator=(const Lease&) = delete;
+  ProblemInstance& operator*() const { return slot_ ? *slot_->instance : *pooled_; }
 
-void ThreadEvaluator::release(std::unique_ptr<ProblemInstance> instance) {
-  std::lock_guard lock(pool_mutex_);
-  pool_.push_back(std::move(instance));
-}
+ private:
+  ThreadEvaluator& owner_;
+  Slot* slot_ = nullptr;
+  std::unique_ptr<ProblemInstance> pooled_;
+};
 
 void ThreadEvaluator::evaluate(Batch& batch) {
   if (batch.count == 0) return;
@@ -58,18 +90,17 @@ void ThreadEvaluator::evaluate(Batch& batch) {
   const auto run = [&] {
     tbb::parallel_for(tbb::blocked_range<std::size_t>(0, chunks, 1),
                       [&](const tbb::blocked_range<std::size_t>& range) {
-                        auto instance = acquire();
                         try {
+                          Lease instance(*this);
                           for (std::size_t c = range.begin(); c != range.end(); ++c) {
                             const std::size_t first = c * chunk;
                             const std::size_t count = std::min(chunk, batch.count - first);
-                            instance->evaluate(batch, first, count);
+                            (*instance).evaluate(batch, first, count);
                           }
                         } catch (...) {
                           std::lock_guard lock(failure_mutex);
                           if (!failure) failure = std::current_exception();
                         }
-                        release(std::move(instance));
                       });
   };
   if (arena_)
@@ -81,14 +112,8 @@ void ThreadEvaluator::evaluate(Batch& batch) {
 
 void ThreadEvaluator::evaluate_range(Batch& batch, std::size_t first, std::size_t count) {
   if (count == 0) return;
-  auto instance = acquire();
-  try {
-    instance->evaluate(batch, first, count);
-  } catch (...) {
-    release(std::move(instance));
-    throw;
-  }
-  release(std::move(instance));
+  Lease instance(*this);
+  (*instance).evaluate(batch, first, count);
 }
 
 }  // namespace tessera
