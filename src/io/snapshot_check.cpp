@@ -3,6 +3,7 @@
 #include <toml++/toml.h>
 
 #include <algorithm>
+#include <cfloat>
 #include <cmath>
 #include <memory>
 #include <numeric>
@@ -25,9 +26,22 @@ std::string describe(double v) {
   return v > 0 ? "+inf" : "-inf";
 }
 
+// Whether values[first, last) are all finite, without a branch per value (so the loop
+// vectorises: checking a million 100-parameter elites was a fifth of writing their archive).
+bool all_finite(const std::vector<double>& values, std::size_t first, std::size_t last) {
+  bool finite = true;
+  for (std::size_t i = first; i < last; ++i) finite &= std::fabs(values[i]) <= DBL_MAX;
+  return finite;
+}
+
 std::optional<std::string> first_non_finite(const std::vector<double>& values,
                                             const std::string& name, std::size_t columns = 0) {
-  for (std::size_t i = 0; i < values.size(); ++i) {
+  constexpr std::size_t kBlock = 4096;
+  std::size_t clean = 0;  // values before this index are known finite
+  while (clean < values.size() &&
+         all_finite(values, clean, std::min(values.size(), clean + kBlock)))
+    clean = std::min(values.size(), clean + kBlock);
+  for (std::size_t i = clean; i < values.size(); ++i) {
     if (std::isfinite(values[i])) continue;
     // Built by appending: GCC 12 reports a false -Wrestrict on "[" + std::string.
     std::string out = name;
@@ -200,12 +214,17 @@ std::optional<std::string> placement_fault(const ArchiveSnapshot& s) {
   const std::size_t n = s.elite_count();
   const std::size_t g = s.genome_size();
   const std::size_t d = s.descriptor_size();
-  for (std::size_t i = 0; i < n; ++i)
-    for (std::size_t j = 0; j < g; ++j) {
-      const double v = s.genome[i * g + j];
-      if (v < s.genome_bounds.lower[j] || v > s.genome_bounds.upper[j])
+  const double* lower = s.genome_bounds.lower.data();
+  const double* upper = s.genome_bounds.upper.data();
+  for (std::size_t i = 0; i < n; ++i) {
+    const double* row = s.genome.data() + i * g;
+    bool outside = false;  // branch-free over the row, so it vectorises (see all_finite)
+    for (std::size_t j = 0; j < g; ++j) outside |= (row[j] < lower[j]) | (row[j] > upper[j]);
+    if (!outside) continue;
+    for (std::size_t j = 0; j < g; ++j)
+      if (row[j] < lower[j] || row[j] > upper[j])
         return "/elites/genome[" + str(i) + ", " + str(j) + "] lies outside /genome bounds";
-    }
+  }
   if (s.space_kind != "grid" && s.space_kind != "cvt") return std::nullopt;
   std::unique_ptr<DescriptorSpace> space;
   try {

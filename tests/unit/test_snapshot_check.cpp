@@ -5,6 +5,7 @@
 
 #include <algorithm>
 #include <cstdint>
+#include <limits>
 #include <string>
 
 #include "io/snapshot_check.hpp"
@@ -66,6 +67,24 @@ TEST_CASE("a genome value outside its bounds is refused", "[archive]") {
   ArchiveSnapshot s = sample_snapshot({});
   s.genome[2 * s.genome_size() + 4] = 1e9;
   CHECK_THAT(fault_of(s), Catch::Contains("/elites/genome[2, 4] lies outside /genome bounds"));
+}
+
+TEST_CASE("the first non-finite or out-of-bounds genome value is named, wherever it lies",
+          "[archive]") {
+  // The checks scan whole blocks of values first (4096 at a time) and only then look for the
+  // culprit: a value in the middle of a later block, or two in one block, must still be named
+  // by its own index, the first one first.
+  ArchiveSnapshot s = sample_snapshot({.elites = 900, .genome = 30});
+  const std::size_t g = s.genome_size();
+  ArchiveSnapshot late = s;
+  late.genome[700 * g + 13] = std::numeric_limits<double>::quiet_NaN();
+  late.genome[800 * g + 2] = -std::numeric_limits<double>::infinity();
+  CHECK_THAT(fault_of(late), Catch::Contains("/elites/genome[700, 13] is NaN"));
+  ArchiveSnapshot outside = s;
+  outside.genome[611 * g + 29] = 7.0;
+  outside.genome[612 * g] = -7.0;
+  CHECK_THAT(fault_of(outside),
+             Catch::Contains("/elites/genome[611, 29] lies outside /genome bounds"));
 }
 
 TEST_CASE("resume counters and history that disagree are refused", "[archive]") {
