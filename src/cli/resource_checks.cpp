@@ -14,6 +14,7 @@
 #include <iostream>
 #include <memory>
 #include <mutex>
+#include <new>
 #include <system_error>
 #include <thread>
 #include <vector>
@@ -83,17 +84,30 @@ void check_threads(std::size_t threads) {
   bool open = false;
   std::vector<std::thread> started;
   std::string failure;
+  std::size_t starved = 0;  // threads that started but could not allocate (under mutex)
   try {
+    started.reserve(wanted);
     for (std::size_t i = 1; i < wanted; ++i)
       started.emplace_back([&] {
-        // An allocation gives the thread its own malloc arena, as a worker thread gets one.
-        const auto scratch = std::make_unique<char[]>(4096);
-        static_cast<volatile char*>(scratch.get())[0] = 1;
+        // An allocation gives the thread its own malloc arena, as a worker thread gets one. Under
+        // an address-space limit that allocation fails: counted, never thrown out of the thread
+        // (which would end the process with "terminate called").
+        std::unique_ptr<char[]> scratch;
+        try {
+          scratch = std::make_unique<char[]>(4096);
+          static_cast<volatile char*>(scratch.get())[0] = 1;
+        } catch (const std::bad_alloc&) {
+          std::lock_guard lock(mutex);
+          ++starved;
+          return;
+        }
         std::unique_lock lock(mutex);
         gate.wait(lock, [&] { return open; });
       });
   } catch (const std::system_error& e) {
     failure = e.code().message();
+  } catch (const std::bad_alloc&) {
+    failure = "out of memory";
   }
   {
     std::lock_guard lock(mutex);
@@ -101,9 +115,10 @@ void check_threads(std::size_t threads) {
   }
   gate.notify_all();
   for (auto& t : started) t.join();
+  if (failure.empty() && starved > 0) failure = "out of memory";
   if (!failure.empty())
     throw InputError("--threads " + std::to_string(wanted) + ": could start only " +
-                     std::to_string(started.size() + 1) + " threads (" + failure +
+                     std::to_string(started.size() + 1 - starved) + " threads (" + failure +
                      "); use fewer with --threads N, or raise the limit (ulimit -u / -v)");
 }
 
