@@ -192,8 +192,12 @@ int serve(const ProblemOpener& open) {
     }
     receive_doubles(buffer, bytes, 0, kWork);
     if (!evaluator) continue;  // setup failed; the coordinator already knows
-    const auto first = static_cast<std::size_t>(buffer[0]);
-    const auto n = static_cast<std::size_t>(buffer[1]);
+    const auto first = buffer.size() >= 2 ? static_cast<std::size_t>(buffer[0]) : 0;
+    const auto n = buffer.size() >= 2 ? static_cast<std::size_t>(buffer[1]) : 0;
+    if (buffer.size() < 2 || buffer.size() != 2 + n * layout.g) {
+      send_string("rank " + std::to_string(rank()) + ": a malformed work message", 0, kFailure);
+      continue;
+    }
     batch.resize(n, layout.g, layout.d, layout.e);
     std::copy(buffer.begin() + 2, buffer.begin() + 2 + static_cast<std::ptrdiff_t>(n * layout.g),
               batch.genomes.begin());
@@ -269,6 +273,8 @@ EvaluateFn distributed_evaluator(WorkerSetup setup, int evaluator_ranks) {
       }
       receive_doubles(reply, bytes, source, kResult);
       --in_flight;
+      if (reply.size() < 2)
+        throw std::runtime_error("malformed result message from rank " + std::to_string(source));
       const auto first = static_cast<std::size_t>(reply[0]);
       const auto n = static_cast<std::size_t>(reply[1]);
       if (reply.size() != layout.result_size(n) || first + n > batch.count)
