@@ -117,6 +117,24 @@ TEST_CASE("streams are fixed by their keys and differ between keys") {
   }
 }
 
+TEST_CASE("a stream seeded from a shared key prefix is the stream of all its keys") {
+  // Candidates of one batch mix the seed and batch index once (Rng::prefix); their streams must
+  // be those of the full constructor, whatever the keys (0, small, all bits set).
+  const std::uint64_t keys[] = {0, 1, 2, 41, 0x8000000000000000ull, ~0ull};
+  for (const StreamVersion version : {StreamVersion::polar, StreamVersion::ziggurat})
+    for (const std::uint64_t seed : keys)
+      for (const std::uint64_t a : keys) {
+        const RngKeyPrefix prefix = Rng::prefix(seed, a);
+        for (const std::uint64_t b : keys)
+          for (const std::uint64_t c : {std::uint64_t{0}, std::uint64_t{3}}) {
+            Rng whole(seed, a, b, c, version), shared(prefix, b, c, version);
+            for (int i = 0; i < 4; ++i) REQUIRE(whole.next() == shared.next());
+            REQUIRE(std::bit_cast<std::uint64_t>(whole.normal()) ==
+                    std::bit_cast<std::uint64_t>(shared.normal()));
+          }
+      }
+}
+
 TEST_CASE("both stream versions give standard normal deviates by scipy's tests", "[scipy]") {
   // 10^6 draws from 1000 streams of 1000, as candidates draw them. scipy.stats.kstest against the
   // standard normal; moments within four standard errors; the ziggurat's tail (|x| > r) as often

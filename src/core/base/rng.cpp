@@ -56,16 +56,22 @@ StreamVersion stream_version(std::int64_t number) {
   return static_cast<StreamVersion>(number);
 }
 
-Rng::Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b, std::uint64_t key_c,
-         StreamVersion version)
-    : zig_x_(ziggurat_table().x.data()), version_(version) {
-  // Mix each key word through splitmix64 in turn so nearby keys give unrelated streams.
+// Each key word is mixed through splitmix64 in turn so nearby keys give unrelated streams.
+RngKeyPrefix Rng::prefix(std::uint64_t seed, std::uint64_t key_a) {
   std::uint64_t x = seed;
   std::uint64_t h = splitmix64(x);
   x = h ^ key_a;
-  h = splitmix64(x);
-  x = h ^ key_b;
-  h = splitmix64(x);
+  return {splitmix64(x)};
+}
+
+Rng::Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b, std::uint64_t key_c,
+         StreamVersion version)
+    : Rng(prefix(seed, key_a), key_b, key_c, version) {}
+
+Rng::Rng(RngKeyPrefix prefix, std::uint64_t key_b, std::uint64_t key_c, StreamVersion version)
+    : zig_x_(ziggurat_table().x.data()), version_(version) {
+  std::uint64_t x = prefix.mixed ^ key_b;
+  const std::uint64_t h = splitmix64(x);
   x = h ^ key_c;
   for (auto& word : s_) word = splitmix64(x);
 }

@@ -25,10 +25,19 @@ inline constexpr std::int64_t kLatestStreamVersionNumber = 2;
 // why, for a number this build does not draw.
 StreamVersion stream_version(std::int64_t number);
 
+// The part of a stream's seeding that depends on the seed and the first key only: the streams of
+// one batch's candidates share it (they differ in key_b), so it is mixed once per batch.
+struct RngKeyPrefix {
+  std::uint64_t mixed;
+};
+
 class Rng {
  public:
   Rng(std::uint64_t seed, std::uint64_t key_a, std::uint64_t key_b = 0, std::uint64_t key_c = 0,
       StreamVersion version = kLatestStreamVersion);
+  // The same stream as Rng(seed, key_a, key_b, key_c, version) for prefix(seed, key_a).
+  Rng(RngKeyPrefix prefix, std::uint64_t key_b, std::uint64_t key_c, StreamVersion version);
+  static RngKeyPrefix prefix(std::uint64_t seed, std::uint64_t key_a);
 
   std::uint64_t next() { return advance(s_[0], s_[1], s_[2], s_[3]); }
   double uniform() { return static_cast<double>(next() >> 11) * 0x1.0p-53; }   // [0, 1)

@@ -40,6 +40,7 @@ void VariationEmitter::ask_range(const EliteArchive& archive, const EmitContext&
   // draws its parents first; doing that for a few candidates at once and asking for their rows
   // overlaps the misses, and leaves each stream where the operator goes on drawing.
   constexpr std::size_t kAhead = 8;
+  const RngKeyPrefix batch_key = Rng::prefix(context.seed, context.batch_index);
   std::optional<Rng> rng[kAhead];
   std::size_t x[kAhead], y[kAhead];
   bool random[kAhead];
@@ -47,8 +48,8 @@ void VariationEmitter::ask_range(const EliteArchive& archive, const EmitContext&
     const std::size_t n = std::min(kAhead, first + count - block);
     for (std::size_t k = 0; k < n; ++k) {
       const std::size_t j = block + k;
-      rng[k].emplace(context.seed, context.batch_index, j,
-                     static_cast<std::uint64_t>(StreamPurpose::variation), context.streams);
+      rng[k].emplace(batch_key, j, static_cast<std::uint64_t>(StreamPurpose::variation),
+                     context.streams);
       random[k] = archive.empty() || context.first_candidate + j < context.initial;
       if (random[k]) continue;
       x[k] = rng[k]->below(archive.size());
