@@ -17,6 +17,7 @@
 #include "eval/cluster.hpp"
 #include "eval/mpi_transport.hpp"
 #include "eval/thread_evaluator.hpp"
+#include "problems/registry.hpp"
 
 namespace tessera::cluster {
 namespace {
@@ -38,12 +39,9 @@ bool launched_by_mpirun() {
 std::vector<std::filesystem::path> module_candidates() {
   namespace fs = std::filesystem;
   std::vector<fs::path> out;
-  std::error_code ec;
-  const fs::path exe = fs::read_symlink("/proc/self/exe", ec);
-  if (!ec) {
-    out.push_back(exe.parent_path() / "tessera-mpi.so");
-    out.push_back(
-        (exe.parent_path() / ".." / "lib" / "tessera" / "tessera-mpi.so").lexically_normal());
+  if (const fs::path exe = executable_dir(); !exe.empty()) {
+    out.push_back(exe / "tessera-mpi.so");
+    out.push_back((exe / ".." / "lib" / "tessera" / "tessera-mpi.so").lexically_normal());
   }
 #ifdef TESSERA_MPI_MODULE_BUILD_PATH
   out.emplace_back(TESSERA_MPI_MODULE_BUILD_PATH);

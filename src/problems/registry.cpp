@@ -29,12 +29,6 @@ std::string name_from_file(const std::string& file) {
   return file.substr(kPrefix.size(), file.size() - kPrefix.size() - kSuffix.size());
 }
 
-fs::path executable_dir() {
-  std::error_code ec;
-  const fs::path exe = fs::read_symlink("/proc/self/exe", ec);
-  return ec ? fs::path() : exe.parent_path();
-}
-
 std::string join(const std::vector<std::string>& items) {
   std::string out;
   for (const auto& item : items) out += (out.empty() ? "" : ", ") + item;
@@ -42,6 +36,12 @@ std::string join(const std::vector<std::string>& items) {
 }
 
 }  // namespace
+
+std::filesystem::path executable_dir() {
+  std::error_code ec;
+  const fs::path exe = fs::read_symlink("/proc/self/exe", ec);
+  return ec ? fs::path() : exe.parent_path();
+}
 
 std::vector<std::string> plugin_search_path() {
   std::vector<std::string> dirs;

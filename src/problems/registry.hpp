@@ -4,6 +4,7 @@
 #pragma once
 
 #include <cstdint>
+#include <filesystem>
 #include <memory>
 #include <string>
 #include <string_view>
@@ -20,6 +21,9 @@ struct PluginEntry {
   std::string error;  // non-empty when the file was found but refused (reason, one line)
 };
 
+// The folder of the running executable (empty when unknown): the build tree and the installed
+// layout (../lib/tessera) are found relative to it.
+std::filesystem::path executable_dir();
 std::vector<std::string> plugin_search_path();
 // Every plugin file found on the search path, loadable or not; with `stop_at`, only those up to
 // and including the first usable one providing that name (the one a run would open), so that a
