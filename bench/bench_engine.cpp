@@ -65,6 +65,11 @@ double loop_rate(const std::shared_ptr<Problem>& problem, std::size_t threads) {
   MapElitesSearch search(s, space, problem->info().genome, problem->info().fitness_lower,
                          std::make_unique<VariationEmitter>(VariationSettings{}),
                          [evaluator](Batch& b) { evaluator->evaluate(b); });
+  // As `tessera illuminate` sets up an in-process plugin: each chunk of a batch is made,
+  // evaluated and placed by one thread in one pass.
+  search.set_range_evaluator([evaluator](Batch& batch, std::size_t first, std::size_t count) {
+    evaluator->evaluate_range(batch, first, count);
+  });
   const auto start = clock_type::now();
   while (!search.finished()) search.step();
   return static_cast<double>(kEvaluations) / seconds_since(start);

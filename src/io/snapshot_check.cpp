@@ -2,6 +2,8 @@
 
 #include <toml++/toml.h>
 
+#include "core/base/finite.hpp"
+
 #include <algorithm>
 #include <bit>
 #include <cmath>
@@ -27,25 +29,12 @@ std::string describe(double v) {
   return v > 0 ? "+inf" : "-inf";
 }
 
-// Whether values[first, last) are all finite, without a branch per value so that the loop
-// vectorises (checking a million 100-parameter elites was a fifth of writing their archive). A
-// double is infinite or NaN exactly when its 11 exponent bits are all ones; the test is kept in
-// integers because GCC does not vectorise a reduction over bool.
-bool all_finite(const std::vector<double>& values, std::size_t first, std::size_t last) {
-  std::uint64_t non_finite = 0;
-  for (std::size_t i = first; i < last; ++i) {
-    const auto bits = std::bit_cast<std::uint64_t>(values[i]);
-    non_finite |= (((bits >> 52) & 0x7ff) + 1) >> 11;
-  }
-  return non_finite == 0;
-}
-
 std::optional<std::string> first_non_finite(const std::vector<double>& values,
                                             const std::string& name, std::size_t columns = 0) {
   constexpr std::size_t kBlock = 4096;
   std::size_t clean = 0;  // values before this index are known finite
   while (clean < values.size() &&
-         all_finite(values, clean, std::min(values.size(), clean + kBlock)))
+         all_finite({values.data() + clean, std::min(values.size(), clean + kBlock) - clean}))
     clean = std::min(values.size(), clean + kBlock);
   for (std::size_t i = clean; i < values.size(); ++i) {
     if (std::isfinite(values[i])) continue;

@@ -1,5 +1,7 @@
 #include "core/archive/archive.hpp"
 
+#include "core/base/finite.hpp"
+
 #include <algorithm>
 #include <cmath>
 #include <stdexcept>
@@ -63,10 +65,8 @@ InsertResult EliteArchive::insert(std::span<const double> genome, double fitness
 Placement EliteArchive::place(std::span<const double> genome, double fitness,
                               std::span<const double> descriptor, bool valid) const {
   Placement out;
-  bool finite = valid && std::isfinite(fitness);
-  for (double d : descriptor) finite = finite && std::isfinite(d);
-  for (double g : genome) finite = finite && std::isfinite(g);
-  if (!finite) return out;
+  if (!(valid && std::isfinite(fitness) && all_finite(descriptor) && all_finite(genome)))
+    return out;
   const CellLookup lookup = grid_ ? grid_->cell_of(descriptor) : space_->cell_of(descriptor);
   out.cell = lookup.cell;
   out.clamped = lookup.clamped;

@@ -27,12 +27,14 @@ double density(double x) {
 
 struct ZigguratTable {
   std::array<double, 257> x{};  // layer i spans [0, x[i]]; x[i + 1] is its inner edge
+  std::array<double, 257> f{};  // density(x[i]), the same values the wedge test would compute
   ZigguratTable() {
     x[0] = kArea / density(kTailStart);
     x[1] = kTailStart;
     for (std::size_t i = 1; i < 255; ++i)
       x[i + 1] = std::sqrt(-2.0 * std::log(kArea / x[i] + density(x[i])));
     x[256] = 0.0;
+    for (std::size_t i = 0; i < 257; ++i) f[i] = density(x[i]);
   }
 };
 
@@ -132,8 +134,8 @@ double Rng::ziggurat_edge(unsigned layer, double z, bool negative) {
       } while (b + b < a * a);
       return negative ? -(kTailStart + a) : kTailStart + a;
     }
-    const double outer = density(zig_x_[layer]);
-    const double inner = density(zig_x_[layer + 1]);
+    const double outer = ziggurat_table().f[layer];
+    const double inner = ziggurat_table().f[layer + 1];
     if (outer + uniform() * (inner - outer) < density(z)) return negative ? -z : z;
     const std::uint64_t bits = next();
     layer = static_cast<unsigned>(bits & 0xFF);

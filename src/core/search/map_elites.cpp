@@ -4,6 +4,7 @@
 #include <tbb/parallel_for.h>
 
 #include <algorithm>
+#include <bit>
 #include <cmath>
 #include <limits>
 #include <stdexcept>
@@ -16,9 +17,10 @@ namespace {
 // Candidates between a prefetch and its use: enough to cover a memory access at the serial
 // insertion's pace (a round figure, not tuned).
 constexpr std::size_t kPrefetchAhead = 8;
-// Largest chunk of the one-pass batch: a batch of 1024 gives each of two threads about eight
+// Chunk of a batch (the last may be shorter): a batch of 1024 gives each of two threads eight
 // chunks to balance, and a plugin call per chunk stays small next to 64 cheap evaluations.
 constexpr std::size_t kPassChunk = 64;
+static_assert(kPassChunk <= 64, "a chunk's contenders are the bits of one 64-bit word");
 
 }  // namespace
 
@@ -77,24 +79,18 @@ void MapElitesSearch::step() {
     placements_.resize(batch_.count);
     evaluate_range(first, count);
     // Finiteness and cell lookup read only the space: done for the whole batch on all threads.
-    tbb::parallel_for(tbb::blocked_range<std::size_t>(first, first + count, kPassChunk),
-                      [&](const tbb::blocked_range<std::size_t>& range) {
-                        place_range(range.begin(), range.size());
+    prepare_chunks();
+    tbb::parallel_for(tbb::blocked_range<std::size_t>(first / kPassChunk,
+                                                      (first + count - 1) / kPassChunk + 1, 1),
+                      [&](const tbb::blocked_range<std::size_t>& chunks) {
+                        for (std::size_t c = chunks.begin(); c != chunks.end(); ++c) {
+                          const std::size_t from = std::max(first, c * kPassChunk);
+                          const std::size_t to = std::min(first + count, (c + 1) * kPassChunk);
+                          place_range(from, to - from);
+                        }
                       });
   }
-  // Insertion is serial and in candidate order: the archive's evolution is fixed by the seed.
-  // On a large grid each candidate's cell is a cache miss; asking for it a few candidates ahead
-  // (slot, then elite) overlaps those misses.
-  const std::size_t end = first + count;
-  for (std::size_t j = first; j < end; ++j) {
-    if (j + 2 * kPrefetchAhead < end && !placements_[j + 2 * kPrefetchAhead].beaten)
-      archive_.prefetch_slot(placements_[j + 2 * kPrefetchAhead].cell);
-    if (j + kPrefetchAhead < end && !placements_[j + kPrefetchAhead].beaten)
-      archive_.prefetch_elite(placements_[j + kPrefetchAhead].cell);
-    results_[j] = offer_candidate(archive_, placements_[j], batch_, j,
-                                  counters_.evaluations + (j - first) + 1, qd_offset_, counters_,
-                                  qd_score_, max_fitness_);
-  }
+  insert_contenders(first, count);
   counters_.evaluations += count;
   batch_done_ = first + count == batch_.count ? 0 : first + count;
   if (batch_done_ == 0) {
@@ -110,6 +106,13 @@ void MapElitesSearch::step() {
     history_.push_back(row);
 }
 
+void MapElitesSearch::prepare_chunks() {
+  const std::size_t chunks = (batch_.count + kPassChunk - 1) / kPassChunk;
+  contenders_.assign(chunks, 0);
+  chunk_invalid_.assign(chunks, 0);
+  chunk_clamped_.assign(chunks, 0);
+}
+
 void MapElitesSearch::place_range(std::size_t first, std::size_t count) {
   // Three sweeps so that a large archive's cache misses overlap: cells (and their slots asked
   // for), then the slots' elites asked for, then the comparison.
@@ -122,18 +125,78 @@ void MapElitesSearch::place_range(std::size_t first, std::size_t count) {
   for (std::size_t j = first; j != end; ++j) archive_.prefetch_fitness(placements_[j].cell);
   for (std::size_t j = first; j != end; ++j)
     archive_.mark_if_beaten(placements_[j], batch_.fitness[j]);
+  // Invalid and beaten candidates get their answer here: the serial insertion then sees only
+  // the rest, as one bit each, and never reads lines another thread wrote for the others. A
+  // beaten candidate leaves the maximum fitness as it is: its cell's elite is at least as fit.
+  std::uint64_t contenders = 0;
+  std::uint32_t invalid = 0, clamped = 0;
+  for (std::size_t j = first; j != end; ++j) {
+    const Placement& p = placements_[j];
+    InsertResult& r = results_[j];
+    if (p.cell < 0) {
+      r = InsertResult{};
+      r.outcome = Insertion::invalid;
+      ++invalid;
+    } else if (p.beaten) {
+      r = InsertResult{};
+      r.cell = p.cell;
+      r.clamped = p.clamped;
+      clamped += p.clamped ? 1 : 0;
+    } else {
+      contenders |= std::uint64_t{1} << (j % kPassChunk);
+    }
+  }
+  const std::size_t chunk = first / kPassChunk;
+  contenders_[chunk] = contenders;
+  chunk_invalid_[chunk] = invalid;
+  chunk_clamped_[chunk] = clamped;
+}
+
+void MapElitesSearch::insert_contenders(std::size_t first, std::size_t count) {
+  // Insertion is serial and in candidate order: the archive's evolution is fixed by the seed.
+  const std::size_t end = first + count;
+  contender_list_.clear();
+  for (std::size_t c = first / kPassChunk; c * kPassChunk < end; ++c) {
+    counters_.invalid += chunk_invalid_[c];
+    counters_.out_of_bounds += chunk_clamped_[c];
+    for (std::uint64_t bits = contenders_[c]; bits != 0; bits &= bits - 1)
+      contender_list_.push_back(static_cast<std::uint32_t>(
+          c * kPassChunk + static_cast<std::size_t>(std::countr_zero(bits))));
+  }
+  // On a large grid each candidate's cell is a cache miss; asking for it a few candidates ahead
+  // (slot, then elite) overlaps those misses.
+  const std::size_t n = contender_list_.size();
+  for (std::size_t i = 0; i < n; ++i) {
+    if (i + 2 * kPrefetchAhead < n)
+      archive_.prefetch_slot(placements_[contender_list_[i + 2 * kPrefetchAhead]].cell);
+    if (i + kPrefetchAhead < n)
+      archive_.prefetch_elite(placements_[contender_list_[i + kPrefetchAhead]].cell);
+    const std::size_t j = contender_list_[i];
+    results_[j] = offer_candidate(archive_, placements_[j], batch_, j,
+                                  counters_.evaluations + (j - first) + 1, qd_offset_, counters_,
+                                  qd_score_, max_fitness_);
+  }
 }
 
 void MapElitesSearch::make_evaluate_place(const EmitContext& context) {
   // Each chunk is made, evaluated and placed by one thread while the archive stays as the batch
-  // found it; candidates land at their own index, so chunking never changes the outcome.
-  tbb::parallel_for(tbb::blocked_range<std::size_t>(0, batch_.count, kPassChunk),
-                    [&](const tbb::blocked_range<std::size_t>& range) {
-                      emitter_->ask_range(archive_, context, batch_, range.begin(), range.size());
-                      batch_.clear_results(range.begin(), range.size());
-                      evaluate_range_(batch_, range.begin(), range.size());
-                      place_range(range.begin(), range.size());
-                    });
+  // found it; candidates land at their own index, so chunking never changes the outcome. The
+  // same chunks go to the same threads batch after batch (affinity), so a chunk's rows stay in
+  // the cache of the thread that writes them.
+  prepare_chunks();
+  tbb::parallel_for(
+      tbb::blocked_range<std::size_t>(0, contenders_.size(), 1),
+      [&](const tbb::blocked_range<std::size_t>& chunks) {
+        for (std::size_t c = chunks.begin(); c != chunks.end(); ++c) {
+          const std::size_t from = c * kPassChunk;
+          const std::size_t count = std::min(kPassChunk, batch_.count - from);
+          emitter_->ask_range(archive_, context, batch_, from, count);
+          batch_.clear_results(from, count);
+          evaluate_range_(batch_, from, count);
+          place_range(from, count);
+        }
+      },
+      pass_affinity_);
 }
 
 void MapElitesSearch::evaluate_range(std::size_t first, std::size_t count) {

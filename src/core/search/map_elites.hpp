@@ -3,6 +3,8 @@
 // parallel and inserted in candidate order, so the run is bit-identical for any thread count.
 #pragma once
 
+#include <tbb/partitioner.h>
+
 #include <memory>
 #include <utility>
 
@@ -43,7 +45,10 @@ class MapElitesSearch final : public SearchAlgorithm {
  private:
   void evaluate_range(std::size_t first, std::size_t count);
   void make_evaluate_place(const EmitContext& context);
+  // Candidates [first, first + count) lie in one chunk of the batch (kPassChunk candidates).
   void place_range(std::size_t first, std::size_t count);
+  void prepare_chunks();
+  void insert_contenders(std::size_t first, std::size_t count);
   void save_partial_batch(ResumeState& state) const;
   void load_partial_batch(const ResumeState& state);
 
@@ -53,6 +58,7 @@ class MapElitesSearch final : public SearchAlgorithm {
   double qd_offset_;
   std::unique_ptr<Emitter> emitter_;
   EvaluateFn evaluate_;
+  tbb::affinity_partitioner pass_affinity_;
   EvaluateRangeFn evaluate_range_;  // empty: batches are made, evaluated and placed in turn
   std::size_t extra_size_;
   SearchCounters counters_;
@@ -64,6 +70,11 @@ class MapElitesSearch final : public SearchAlgorithm {
   Batch batch_;
   std::vector<InsertResult> results_;
   std::vector<Placement> placements_;  // of the batch's candidates, worked out in parallel
+  // Per chunk of the batch: a bit per candidate the serial insertion must offer to the archive
+  // (valid and not beaten), and how many of the others were invalid, and beaten but clamped.
+  std::vector<std::uint64_t> contenders_;
+  std::vector<std::uint32_t> chunk_invalid_, chunk_clamped_;
+  std::vector<std::uint32_t> contender_list_;  // their indices, in candidate order
 };
 
 // Fills the /space part of a snapshot from a space (grid or cvt).
