@@ -200,9 +200,14 @@ Handle create_group(hid_t parent, const char* name) {
                       "H5Gcreate2");
 }
 
-// Rows per chunk: about kChunkBytes, whole rows, never more rows than the dataset has.
+// Rows per chunk: at most about kChunkBytes of whole rows, the dataset's rows spread evenly over
+// as few chunks as that allows, so that the zero-filled tail of the last chunk stays under one
+// row per chunk (a fixed 512 KiB chunk left a small archive's file half padding).
 std::uint64_t chunk_rows_for(std::uint64_t rows, std::uint64_t row_bytes) {
-  return std::clamp<std::uint64_t>(kChunkBytes / row_bytes, 1, std::max<std::uint64_t>(rows, 1));
+  const std::uint64_t most =
+      std::clamp<std::uint64_t>(kChunkBytes / row_bytes, 1, std::max<std::uint64_t>(rows, 1));
+  const std::uint64_t chunks = (std::max<std::uint64_t>(rows, 1) + most - 1) / most;
+  return (std::max<std::uint64_t>(rows, 1) + chunks - 1) / chunks;
 }
 
 // A chunked dataset of `rows` rows (x `cols` columns when cols > 0), through shuffle + deflate

@@ -302,7 +302,7 @@ TEST_CASE("stored and compressed archives read back equal, in tessera and in h5p
           "[archive_file]") {
   TempDir dir;
   SampleOptions o;
-  o.elites = 5000;  // several chunks of /elites/genome, the last one partial
+  o.elites = 5001;  // several chunks of /elites/genome (1,251 rows each), the last one partial
   o.genome = 40;
   const ArchiveSnapshot original = sample_snapshot(o);
   const std::string stored = dir.file("stored.h5"), compressed = dir.file("compressed.h5");
