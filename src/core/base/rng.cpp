@@ -78,29 +78,6 @@ Rng::Rng(RngKeyPrefix prefix, std::uint64_t key_b, std::uint64_t key_c, StreamVe
   for (auto& word : s_) word = splitmix64(x);
 }
 
-void Rng::normals(std::span<double> out) {
-  if (version_ == StreamVersion::ziggurat) {
-    // The generator's state lives in locals (registers) through the common case; it goes back
-    // to the members only around the rare edge path, which draws from them.
-    std::uint64_t s0 = s_[0], s1 = s_[1], s2 = s_[2], s3 = s_[3];
-    for (double& v : out) {
-      const std::uint64_t bits = advance(s0, s1, s2, s3);
-      const unsigned layer = static_cast<unsigned>(bits & 0xFF);
-      const double z = static_cast<double>(bits >> 11) * 0x1.0p-53 * zig_x_[layer];
-      if (z < zig_x_[layer + 1]) [[likely]] {
-        v = with_sign(z, bits);
-        continue;
-      }
-      s_[0] = s0, s_[1] = s1, s_[2] = s2, s_[3] = s3;
-      v = ziggurat_edge(layer, z, (bits & 0x100) != 0);
-      s0 = s_[0], s1 = s_[1], s2 = s_[2], s3 = s_[3];
-    }
-    s_[0] = s0, s_[1] = s1, s_[2] = s2, s_[3] = s3;
-  } else {
-    for (double& v : out) v = polar();
-  }
-}
-
 double Rng::polar() {
   // Marsaglia's polar method (Marsaglia & Bray 1964): two independent deviates per accepted
   // pair of uniforms, with no trigonometric calls; the second is kept for the next call.

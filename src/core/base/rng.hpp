@@ -45,7 +45,34 @@ class Rng {
   // A standard normal deviate by this stream's version.
   double normal() { return version_ == StreamVersion::ziggurat ? ziggurat() : polar(); }
   // out.size() deviates, exactly as many normal() calls would give, in order.
-  void normals(std::span<double> out);
+  void normals(std::span<double> out) {
+    for_each_normal(out.size(), [&](std::size_t i, double z) { out[i] = z; });
+  }
+  // The same `count` deviates handed to use(i, z) one at a time, so that a caller consumes each
+  // while it is in a register (a deviate stored and read back as half of a vector load waits
+  // for the store to complete). The stream's state stays in locals through the common case and
+  // goes back to the members only around the rare edge path, which draws from them.
+  template <class Use>
+  void for_each_normal(std::size_t count, Use&& use) {
+    if (version_ != StreamVersion::ziggurat) {
+      for (std::size_t i = 0; i < count; ++i) use(i, polar());
+      return;
+    }
+    std::uint64_t s0 = s_[0], s1 = s_[1], s2 = s_[2], s3 = s_[3];
+    for (std::size_t i = 0; i < count; ++i) {
+      const std::uint64_t bits = advance(s0, s1, s2, s3);
+      const unsigned layer = static_cast<unsigned>(bits & 0xFF);
+      const double z = static_cast<double>(bits >> 11) * 0x1.0p-53 * zig_x_[layer];
+      if (z < zig_x_[layer + 1]) [[likely]] {
+        use(i, with_sign(z, bits));
+        continue;
+      }
+      s_[0] = s0, s_[1] = s1, s_[2] = s2, s_[3] = s3;
+      use(i, ziggurat_edge(layer, z, (bits & 0x100) != 0));
+      s0 = s_[0], s1 = s_[1], s2 = s_[2], s3 = s_[3];
+    }
+    s_[0] = s0, s_[1] = s1, s_[2] = s2, s_[3] = s3;
+  }
   std::uint64_t below(std::uint64_t n);  // uniform in [0, n), unbiased; n > 0
   StreamVersion version() const { return version_; }
 

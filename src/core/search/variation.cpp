@@ -16,19 +16,22 @@ void clip_to_bounds(std::span<double> genome, const Bounds& bounds) {
 
 void gaussian_mutation(std::span<const double> parent, const Bounds& bounds, double sigma, Rng& rng,
                        std::span<double> out) {
-  rng.normals(out);  // drawn in bulk first: the same deviates, in the same order, as one by one
-  for (std::size_t i = 0; i < out.size(); ++i)
-    out[i] = parent[i] + sigma * bounds.width(i) * out[i];
-  clip_to_bounds(out, bounds);
+  const double* lower = bounds.lower.data();
+  const double* upper = bounds.upper.data();
+  rng.for_each_normal(out.size(), [&](std::size_t i, double z) {
+    out[i] = std::clamp(parent[i] + sigma * (upper[i] - lower[i]) * z, lower[i], upper[i]);
+  });
 }
 
 void iso_line_dd(std::span<const double> x, std::span<const double> y, const Bounds& bounds,
                  double sigma_iso, double sigma_line, Rng& rng, std::span<double> out) {
   const double line = sigma_line * rng.normal();  // one draw per child: a move along (y - x)
-  rng.normals(out);  // drawn in bulk first: the same deviates, in the same order, as one by one
-  for (std::size_t i = 0; i < out.size(); ++i)
-    out[i] = x[i] + sigma_iso * bounds.width(i) * out[i] + line * (y[i] - x[i]);
-  clip_to_bounds(out, bounds);
+  const double* lower = bounds.lower.data();
+  const double* upper = bounds.upper.data();
+  rng.for_each_normal(out.size(), [&](std::size_t i, double z) {
+    const double child = x[i] + sigma_iso * (upper[i] - lower[i]) * z + line * (y[i] - x[i]);
+    out[i] = std::clamp(child, lower[i], upper[i]);
+  });
 }
 
 }  // namespace tessera
