@@ -180,9 +180,8 @@ void MapElitesSearch::insert_contenders(std::size_t first, std::size_t count) {
 
 void MapElitesSearch::make_evaluate_place(const EmitContext& context) {
   // Each chunk is made, evaluated and placed by one thread while the archive stays as the batch
-  // found it; candidates land at their own index, so chunking never changes the outcome. The
-  // same chunks go to the same threads batch after batch (affinity), so a chunk's rows stay in
-  // the cache of the thread that writes them.
+  // found it; candidates land at their own index, so chunking never changes the outcome. Each
+  // chunk is a task of its own, so a thread that runs out takes the next single chunk.
   prepare_chunks();
   tbb::parallel_for(
       tbb::blocked_range<std::size_t>(0, contenders_.size(), 1),
@@ -196,7 +195,7 @@ void MapElitesSearch::make_evaluate_place(const EmitContext& context) {
           place_range(from, count);
         }
       },
-      pass_affinity_);
+      tbb::simple_partitioner());
 }
 
 void MapElitesSearch::evaluate_range(std::size_t first, std::size_t count) {

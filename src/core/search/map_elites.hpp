@@ -3,8 +3,6 @@
 // parallel and inserted in candidate order, so the run is bit-identical for any thread count.
 #pragma once
 
-#include <tbb/partitioner.h>
-
 #include <memory>
 #include <utility>
 
@@ -58,7 +56,6 @@ class MapElitesSearch final : public SearchAlgorithm {
   double qd_offset_;
   std::unique_ptr<Emitter> emitter_;
   EvaluateFn evaluate_;
-  tbb::affinity_partitioner pass_affinity_;
   EvaluateRangeFn evaluate_range_;  // empty: batches are made, evaluated and placed in turn
   std::size_t extra_size_;
   SearchCounters counters_;
