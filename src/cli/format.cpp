@@ -42,6 +42,11 @@ std::string short_number(double value) {
 std::string duration(double seconds) {
   char buf[32];
   if (!std::isfinite(seconds) || seconds < 0) return "-";
+  // Tenths under ten seconds: a quick run would otherwise read "in 0s" beside its rate.
+  if (seconds < 9.95) {
+    std::snprintf(buf, sizeof buf, "%.1fs", seconds);
+    return buf;
+  }
   const auto s = static_cast<long long>(seconds + 0.5);
   if (s >= 3600) std::snprintf(buf, sizeof buf, "%lldh%02lldm", s / 3600, (s / 60) % 60);
   else if (s >= 60) std::snprintf(buf, sizeof buf, "%lldm%02llds", s / 60, s % 60);

@@ -4,6 +4,7 @@ elite, exactly the descriptor and fitness that numpy recomputes from the stored 
 grid cell that the archive-format formula gives; 1,000,000 evaluations cover more than 70% of the
 100x100 grid; --threads 1 and --threads 2 give bit-identical archives."""
 import os
+import re
 import numpy as np
 from tessera_test_util import run, problem, tempdir, read_archive, assert_same_run
 
@@ -13,6 +14,9 @@ work = tempdir()
 out = os.path.join(work, "small")
 proc = run("illuminate", problem("arm.toml"), "--out", out, "-n", 30000, "--quiet")
 assert "coverage" in proc.stdout, proc.stdout
+# A run of well under ten seconds states its time in tenths (never "in 0s" beside a rate).
+took = re.search(r"evaluations\s+30,000 in (\d+\.\d)s \(", proc.stdout)
+assert took and float(took.group(1)) < 10, proc.stdout
 a = read_archive(os.path.join(out, "archive.h5"))
 assert a["@format"] == "tessera-archive" and a["@format_version"] == 2
 assert a["@problem"] == "arm" and a["@evaluations"] == 30000
