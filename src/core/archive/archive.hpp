@@ -10,6 +10,7 @@
 
 #include "core/archive/row_allocator.hpp"
 #include "core/archive/space.hpp"
+#include "core/base/prefetch.hpp"
 
 namespace tessera {
 
@@ -83,12 +84,13 @@ class EliteArchive {
     const std::int32_t slot = slot_of_cell_[static_cast<std::size_t>(cell)];
     if (slot < 0) return;
     const auto i = static_cast<std::size_t>(slot);
-    __builtin_prefetch(fitness_.data() + i);
-    // The rows an improvement overwrites (first and last line of the genome row).
-    __builtin_prefetch(birth_.data() + i, 1);
-    __builtin_prefetch(genomes_.data() + i * genome_size_, 1);
-    __builtin_prefetch(genomes_.data() + (i + 1) * genome_size_ - 1, 1);
-    __builtin_prefetch(descriptors_.data() + i * descriptor_size_, 1);
+    // The rows an improvement overwrites (first and last line of the genome row): a candidate
+    // that gets here usually does.
+    prefetch_for_write(fitness_.data() + i);
+    prefetch_for_write(birth_.data() + i);
+    prefetch_for_write(genomes_.data() + i * genome_size_);
+    prefetch_for_write(genomes_.data() + (i + 1) * genome_size_ - 1);
+    prefetch_for_write(descriptors_.data() + i * descriptor_size_);
   }
 
   // A hint for variation: elite i's genome will be read soon (its first and last line).
