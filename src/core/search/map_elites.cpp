@@ -108,9 +108,8 @@ void MapElitesSearch::step() {
 
 void MapElitesSearch::prepare_chunks() {
   const std::size_t chunks = (batch_.count + kPassChunk - 1) / kPassChunk;
-  contenders_.assign(chunks, 0);
-  chunk_invalid_.assign(chunks, 0);
-  chunk_clamped_.assign(chunks, 0);
+  // Each chunk's tally is written whole by the thread that places it; no clearing needed.
+  chunk_tallies_.resize(chunks);
 }
 
 void MapElitesSearch::place_range(std::size_t first, std::size_t count) {
@@ -147,9 +146,7 @@ void MapElitesSearch::place_range(std::size_t first, std::size_t count) {
     }
   }
   const std::size_t chunk = first / kPassChunk;
-  contenders_[chunk] = contenders;
-  chunk_invalid_[chunk] = invalid;
-  chunk_clamped_[chunk] = clamped;
+  chunk_tallies_[chunk] = {contenders, invalid, clamped};
 }
 
 void MapElitesSearch::insert_contenders(std::size_t first, std::size_t count) {
@@ -157,9 +154,10 @@ void MapElitesSearch::insert_contenders(std::size_t first, std::size_t count) {
   const std::size_t end = first + count;
   contender_list_.clear();
   for (std::size_t c = first / kPassChunk; c * kPassChunk < end; ++c) {
-    counters_.invalid += chunk_invalid_[c];
-    counters_.out_of_bounds += chunk_clamped_[c];
-    for (std::uint64_t bits = contenders_[c]; bits != 0; bits &= bits - 1)
+    const ChunkTally& tally = chunk_tallies_[c];
+    counters_.invalid += tally.invalid;
+    counters_.out_of_bounds += tally.clamped;
+    for (std::uint64_t bits = tally.contenders; bits != 0; bits &= bits - 1)
       contender_list_.push_back(static_cast<std::uint32_t>(
           c * kPassChunk + static_cast<std::size_t>(std::countr_zero(bits))));
   }
@@ -184,7 +182,7 @@ void MapElitesSearch::make_evaluate_place(const EmitContext& context) {
   // chunk is a task of its own, so a thread that runs out takes the next single chunk.
   prepare_chunks();
   tbb::parallel_for(
-      tbb::blocked_range<std::size_t>(0, contenders_.size(), 1),
+      tbb::blocked_range<std::size_t>(0, chunk_tallies_.size(), 1),
       [&](const tbb::blocked_range<std::size_t>& chunks) {
         for (std::size_t c = chunks.begin(); c != chunks.end(); ++c) {
           const std::size_t from = c * kPassChunk;

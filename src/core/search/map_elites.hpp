@@ -69,8 +69,13 @@ class MapElitesSearch final : public SearchAlgorithm {
   std::vector<Placement> placements_;  // of the batch's candidates, worked out in parallel
   // Per chunk of the batch: a bit per candidate the serial insertion must offer to the archive
   // (valid and not beaten), and how many of the others were invalid, and beaten but clamped.
-  std::vector<std::uint64_t> contenders_;
-  std::vector<std::uint32_t> chunk_invalid_, chunk_clamped_;
+  // A cache line each: neighbouring chunks run on different threads.
+  struct alignas(64) ChunkTally {
+    std::uint64_t contenders = 0;
+    std::uint32_t invalid = 0;
+    std::uint32_t clamped = 0;
+  };
+  std::vector<ChunkTally> chunk_tallies_;
   std::vector<std::uint32_t> contender_list_;  // their indices, in candidate order
 };
 
