@@ -21,6 +21,7 @@
 #include "eval/thread_evaluator.hpp"
 #include "problems/registry.hpp"
 
+#include "arm_search.hpp"
 #include "bench_timing.hpp"
 
 using tessera::bench::median;
@@ -55,23 +56,9 @@ double raw_rate(const std::vector<double>& genomes, std::size_t threads) {
 
 double loop_rate(const std::shared_ptr<Problem>& problem, std::size_t threads) {
   tbb::global_control limit(tbb::global_control::max_allowed_parallelism, threads);
-  auto evaluator = std::make_shared<ThreadEvaluator>(problem, threads);
-  SearchSettings s;
-  s.batch = kBatch;
-  s.evaluations = kEvaluations;
-  auto space =
-      std::make_shared<GridSpace>(problem->info().descriptor, problem->info().descriptor_names,
-                                  std::vector<std::int64_t>{100, 100});
-  MapElitesSearch search(s, space, problem->info().genome, problem->info().fitness_lower,
-                         std::make_unique<VariationEmitter>(VariationSettings{}),
-                         [evaluator](Batch& b) { evaluator->evaluate(b); });
-  // As `tessera illuminate` sets up an in-process plugin: each chunk of a batch is made,
-  // evaluated and placed by one thread in one pass.
-  search.set_range_evaluator([evaluator](Batch& batch, std::size_t first, std::size_t count) {
-    evaluator->evaluate_range(batch, first, count);
-  });
+  auto search = tessera::bench::arm_search(problem, threads, kBatch, kEvaluations, 100);
   const auto start = clock_type::now();
-  while (!search.finished()) search.step();
+  while (!search->finished()) search->step();
   return static_cast<double>(kEvaluations) / seconds_since(start);
 }
 

@@ -21,6 +21,7 @@
 #include "io/archive_file.hpp"
 #include "problems/registry.hpp"
 
+#include "arm_search.hpp"
 #include "bench_timing.hpp"
 
 using tessera::bench::median;
@@ -42,29 +43,20 @@ struct Timing {
 Timing run(const std::shared_ptr<Problem>& problem, std::int64_t side, std::size_t threads,
            const std::string& path) {
   tbb::global_control limit(tbb::global_control::max_allowed_parallelism, threads);
-  auto evaluator = std::make_shared<ThreadEvaluator>(problem, threads);
-  SearchSettings s;
-  s.batch = kBatch;
-  s.evaluations = kEvaluations;
-  auto space =
-      std::make_shared<GridSpace>(problem->info().descriptor, problem->info().descriptor_names,
-                                  std::vector<std::int64_t>{side, side});
-  MapElitesSearch search(s, space, problem->info().genome, problem->info().fitness_lower,
-                         std::make_unique<VariationEmitter>(VariationSettings{}),
-                         [evaluator](Batch& b) { evaluator->evaluate(b); });
+  auto search = tessera::bench::arm_search(problem, threads, kBatch, kEvaluations, side);
   Timing t;
   auto start = std::chrono::steady_clock::now();
-  while (!search.finished()) search.step();
+  while (!search->finished()) search->step();
   t.loop = seconds_since(start);
   start = std::chrono::steady_clock::now();
   ArchiveSnapshot snapshot;
   snapshot.problem = "arm";
   snapshot.config = "[problem]\nname = \"arm\"\n";
   snapshot.tool_version = "bench";
-  search.save(snapshot);
+  search->save(snapshot);
   write_archive_file(path, snapshot);
   t.write = seconds_since(start);
-  t.elites = search.archive().size();
+  t.elites = search->archive().size();
   return t;
 }
 
