@@ -42,7 +42,12 @@ std::string short_number(double value) {
 std::string duration(double seconds) {
   char buf[32];
   if (!std::isfinite(seconds) || seconds < 0) return "-";
-  // Tenths under ten seconds: a quick run would otherwise read "in 0s" beside its rate.
+  // Milliseconds under a second and tenths under ten: a quick run would otherwise read "in 0s"
+  // beside its rate.
+  if (seconds < 0.9995) {
+    std::snprintf(buf, sizeof buf, "%.0fms", seconds * 1000.0);
+    return buf;
+  }
   if (seconds < 9.95) {
     std::snprintf(buf, sizeof buf, "%.1fs", seconds);
     return buf;
