@@ -2,8 +2,6 @@
 
 #include <toml++/toml.h>
 
-#include "core/base/finite.hpp"
-
 #include <algorithm>
 #include <bit>
 #include <cmath>
@@ -16,6 +14,7 @@
 
 #include "core/archive/cvt.hpp"
 #include "core/archive/space.hpp"
+#include "core/base/finite.hpp"
 
 namespace tessera {
 namespace {

@@ -1,11 +1,11 @@
 #include "core/archive/archive.hpp"
 
-#include "core/base/finite.hpp"
-
 #include <algorithm>
 #include <cmath>
 #include <stdexcept>
 #include <string>
+
+#include "core/base/finite.hpp"
 
 namespace tessera {
 namespace {

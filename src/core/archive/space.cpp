@@ -49,8 +49,9 @@ CellLookup GridSpace::cell_of(std::span<const double> descriptor) const {
   for (std::size_t i = 0; i < resolution_.size(); ++i) {
     const double d = descriptor[i];
     if (d < b.lower[i] || d > b.upper[i]) out.clamped = true;
-    // Truncation is floor here (scaled >= 0 by then), and floor(s) >= n exactly when s >= n
-    // for a whole n: no call to floor, which x86-64's baseline instruction set lacks.
+    // No floor: truncation equals it where it is used (scaled >= 0 by then), and floor(s) >= n
+    // exactly when s >= n for a whole n. x86-64's baseline has no rounding instruction, so
+    // floor was a library call per dimension.
     const double scaled = (d - b.lower[i]) / b.width(i) * static_cast<double>(resolution_[i]);
     std::int64_t k;
     if (!(scaled >= 0.0)) {
