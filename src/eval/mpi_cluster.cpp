@@ -4,11 +4,13 @@
 #include <dlfcn.h>
 
 #include <algorithm>
+#include <cmath>
 #include <csignal>
 #include <cstdlib>
 #include <cstring>
 #include <deque>
 #include <filesystem>
+#include <optional>
 #include <stdexcept>
 #include <utility>
 #include <vector>
@@ -136,8 +138,22 @@ WorkerSetup unpack_setup(const std::string& text) {
 // valid..., extras...], all as doubles (indices and flags are exact in a double).
 struct Layout {
   std::size_t g, d, e;
+  std::size_t work_size(std::size_t count) const { return 2 + count * g; }
   std::size_t result_size(std::size_t count) const { return 2 + count * (2 + d + e); }
 };
+
+struct ChunkHeader {
+  std::size_t first, count;
+};
+
+// The [first, count] header of a work or result message, when it has one of whole numbers that
+// a double holds exactly (anything else, cast to an index, would be undefined).
+std::optional<ChunkHeader> header_of(const std::vector<double>& message) {
+  if (message.size() < 2) return std::nullopt;
+  for (const double v : {message[0], message[1]})
+    if (!(v >= 0.0 && v <= 0x1p53 && v == std::floor(v))) return std::nullopt;
+  return ChunkHeader{static_cast<std::size_t>(message[0]), static_cast<std::size_t>(message[1])};
+}
 
 }  // namespace
 
@@ -190,12 +206,12 @@ int serve(const ProblemOpener& open) {
     }
     receive_doubles(buffer, bytes, 0, kWork);
     if (!evaluator) continue;  // setup failed; the coordinator already knows
-    const auto first = buffer.size() >= 2 ? static_cast<std::size_t>(buffer[0]) : 0;
-    const auto n = buffer.size() >= 2 ? static_cast<std::size_t>(buffer[1]) : 0;
-    if (buffer.size() < 2 || buffer.size() != 2 + n * layout.g) {
+    const auto header = header_of(buffer);
+    if (!header || buffer.size() != layout.work_size(header->count)) {
       send_string("rank " + std::to_string(rank()) + ": a malformed work message", 0, kFailure);
       continue;
     }
+    const std::size_t n = header->count;
     batch.resize(n, layout.g, layout.d, layout.e);
     std::copy(buffer.begin() + 2, buffer.begin() + 2 + static_cast<std::ptrdiff_t>(n * layout.g),
               batch.genomes.begin());
@@ -206,8 +222,8 @@ int serve(const ProblemOpener& open) {
       continue;
     }
     reply.resize(layout.result_size(n));
-    reply[0] = static_cast<double>(first);
-    reply[1] = static_cast<double>(n);
+    reply[0] = buffer[0];  // the chunk's first index, echoed
+    reply[1] = buffer[1];
     auto out = reply.begin() + 2;
     out = std::copy(batch.fitness.begin(), batch.fitness.end(), out);
     out = std::copy(batch.descriptors.begin(), batch.descriptors.end(), out);
@@ -248,7 +264,7 @@ EvaluateFn distributed_evaluator(WorkerSetup setup, int evaluator_ranks) {
       const std::size_t n = std::min(chunk, batch.count - first);
       auto& msg = outbox[static_cast<std::size_t>(r)];
       g_mpi->wait(std::exchange(requests[static_cast<std::size_t>(r)], nullptr));
-      msg.resize(2 + n * layout.g);
+      msg.resize(layout.work_size(n));
       msg[0] = static_cast<double>(first);
       msg[1] = static_cast<double>(n);
       std::copy_n(batch.genomes.begin() + static_cast<std::ptrdiff_t>(first * layout.g), n * layout.g,
@@ -271,12 +287,11 @@ EvaluateFn distributed_evaluator(WorkerSetup setup, int evaluator_ranks) {
       }
       receive_doubles(reply, bytes, source, kResult);
       --in_flight;
-      if (reply.size() < 2)
+      const auto header = header_of(reply);
+      if (!header || reply.size() != layout.result_size(header->count) ||
+          header->first + header->count > batch.count)
         throw std::runtime_error("malformed result message from rank " + std::to_string(source));
-      const auto first = static_cast<std::size_t>(reply[0]);
-      const auto n = static_cast<std::size_t>(reply[1]);
-      if (reply.size() != layout.result_size(n) || first + n > batch.count)
-        throw std::runtime_error("malformed result message from rank " + std::to_string(source));
+      const auto [first, n] = *header;
       auto in = reply.begin() + 2;
       std::copy_n(in, n, batch.fitness.begin() + static_cast<std::ptrdiff_t>(first));
       in += static_cast<std::ptrdiff_t>(n);

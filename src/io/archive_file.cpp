@@ -204,10 +204,10 @@ Handle create_group(hid_t parent, const char* name) {
 // as few chunks as that allows, so that the zero-filled tail of the last chunk stays under one
 // row per chunk (a fixed 512 KiB chunk left a small archive's file half padding).
 std::uint64_t chunk_rows_for(std::uint64_t rows, std::uint64_t row_bytes) {
-  const std::uint64_t most =
-      std::clamp<std::uint64_t>(kChunkBytes / row_bytes, 1, std::max<std::uint64_t>(rows, 1));
-  const std::uint64_t chunks = (std::max<std::uint64_t>(rows, 1) + most - 1) / most;
-  return (std::max<std::uint64_t>(rows, 1) + chunks - 1) / chunks;
+  const std::uint64_t n = std::max<std::uint64_t>(rows, 1);
+  const std::uint64_t most = std::clamp<std::uint64_t>(kChunkBytes / row_bytes, 1, n);
+  const std::uint64_t chunks = (n + most - 1) / most;
+  return (n + chunks - 1) / chunks;
 }
 
 // A chunked dataset of `rows` rows (x `cols` columns when cols > 0), through shuffle + deflate

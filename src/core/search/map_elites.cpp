@@ -122,15 +122,14 @@ void MapElitesSearch::place_range(std::size_t first, std::size_t count) {
     archive_.prefetch_slot(placements_[j].cell);
   }
   for (std::size_t j = first; j != end; ++j) archive_.prefetch_fitness(placements_[j].cell);
-  for (std::size_t j = first; j != end; ++j)
-    archive_.mark_if_beaten(placements_[j], batch_.fitness[j]);
   // Invalid and beaten candidates get their answer here: the serial insertion then sees only
   // the rest, as one bit each, and never reads lines another thread wrote for the others. A
   // beaten candidate leaves the maximum fitness as it is: its cell's elite is at least as fit.
   std::uint64_t contenders = 0;
   std::uint32_t invalid = 0, clamped = 0;
   for (std::size_t j = first; j != end; ++j) {
-    const Placement& p = placements_[j];
+    Placement& p = placements_[j];
+    archive_.mark_if_beaten(p, batch_.fitness[j]);
     InsertResult& r = results_[j];
     if (p.cell < 0) {
       r = InsertResult{};

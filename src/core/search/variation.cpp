@@ -9,11 +9,6 @@ void random_genome(const Bounds& bounds, Rng& rng, std::span<double> out) {
     out[i] = rng.uniform(bounds.lower[i], bounds.upper[i]);
 }
 
-void clip_to_bounds(std::span<double> genome, const Bounds& bounds) {
-  for (std::size_t i = 0; i < genome.size(); ++i)
-    genome[i] = std::clamp(genome[i], bounds.lower[i], bounds.upper[i]);
-}
-
 void gaussian_mutation(std::span<const double> parent, const Bounds& bounds, double sigma, Rng& rng,
                        std::span<double> out) {
   const double* lower = bounds.lower.data();

@@ -24,7 +24,4 @@ void gaussian_mutation(std::span<const double> parent, const Bounds& bounds, dou
 void iso_line_dd(std::span<const double> x, std::span<const double> y, const Bounds& bounds,
                  double sigma_iso, double sigma_line, Rng& rng, std::span<double> out);
 
-// Clips every parameter into its bounds.
-void clip_to_bounds(std::span<double> genome, const Bounds& bounds);
-
 }  // namespace tessera
