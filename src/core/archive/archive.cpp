@@ -83,17 +83,10 @@ InsertResult EliteArchive::insert_placed(const Placement& lookup, std::span<cons
                                          double fitness, std::span<const double> descriptor,
                                          std::uint64_t birth, std::span<const double> extras) {
   check_extras(extras);
+  if (lookup.settled()) return settled_result(lookup);
   InsertResult result;
-  if (lookup.cell < 0) {
-    result.outcome = Insertion::invalid;
-    return result;
-  }
   result.cell = lookup.cell;
   result.clamped = lookup.clamped;
-  if (lookup.beaten) {
-    result.outcome = Insertion::rejected;
-    return result;
-  }
   const auto slot = slot_of_cell_[static_cast<std::size_t>(lookup.cell)];
   std::size_t index;
   if (slot < 0) {

@@ -42,7 +42,22 @@ struct Placement {
   // insertion will reject the candidate: late in a run most are, and the serial part then
   // need not touch the cell at all. Never set while acceptance thresholds are kept.
   bool beaten = false;
+  // Invalid or beaten: the result is known without the archive.
+  bool settled() const { return cell < 0 || beaten; }
 };
+
+// The result of a settled placement: invalid, or rejected in its cell.
+inline InsertResult settled_result(const Placement& placement) {
+  InsertResult result;
+  if (placement.cell < 0) {
+    result.outcome = Insertion::invalid;
+    return result;
+  }
+  result.outcome = Insertion::rejected;
+  result.cell = placement.cell;
+  result.clamped = placement.clamped;
+  return result;
+}
 
 // Elites are kept in the order their cells were first filled. That order is part of the state
 // (uniform parent selection indexes into it), so it is saved and restored with the archive.

@@ -130,19 +130,15 @@ void MapElitesSearch::place_range(std::size_t first, std::size_t count) {
   for (std::size_t j = first; j != end; ++j) {
     Placement& p = placements_[j];
     archive_.mark_if_beaten(p, batch_.fitness[j]);
-    InsertResult& r = results_[j];
-    if (p.cell < 0) {
-      r = InsertResult{};
-      r.outcome = Insertion::invalid;
-      ++invalid;
-    } else if (p.beaten) {
-      r = InsertResult{};
-      r.cell = p.cell;
-      r.clamped = p.clamped;
-      clamped += p.clamped ? 1 : 0;
-    } else {
+    if (!p.settled()) {
       contenders |= std::uint64_t{1} << (j % kPassChunk);
+      continue;
     }
+    results_[j] = settled_result(p);
+    if (p.cell < 0)
+      ++invalid;
+    else if (p.clamped)
+      ++clamped;
   }
   const std::size_t chunk = first / kPassChunk;
   chunk_tallies_[chunk] = {contenders, invalid, clamped};
